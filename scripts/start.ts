@@ -1,0 +1,95 @@
+/**
+ * `npm start` after the installs (scripts/start.sh): the project-local PostgreSQL cluster in .data/pg
+ * (unless DATABASE_URL is set), migrations and demo seeds, the local fakes, the dashboard build, and
+ * the gateway serving API and dashboard on http://127.0.0.1:8080. Ctrl-C / SIGTERM stops everything
+ * it started, in reverse order, PostgreSQL last.
+ */
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { ensureCluster, ensureDatabase, startCluster, stopCluster, type Cluster } from './lib/postgres.js';
+import { prepareDatabase } from './lib/database.js';
+import { startLocalServices } from './lib/local-services.js';
+import { ensureDashboardBuilt } from './lib/dashboard-build.js';
+import { ConfigError, loadConfig } from '../gateway/config.js';
+import { startGateway, type RunningGateway } from '../gateway/server.js';
+import { DEMO_USERS } from '../seeds/demo-accounts.js';
+
+const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
+const log = (line: string) => console.log(`[fermiwell] ${line}`);
+
+const dataDir = path.resolve(process.env['FW_DATA_DIR'] ?? path.join(root, '.data'));
+const pgPort = Number(process.env['FW_PG_PORT'] ?? 54329);
+
+const cleanups: Array<() => Promise<void> | void> = [];
+let stopping = false;
+
+async function shutdown(code: number) {
+  if (stopping) return;
+  stopping = true;
+  log('stopping…');
+  for (const cleanup of cleanups.reverse()) {
+    try {
+      await cleanup();
+    } catch (error) {
+      console.error(error);
+    }
+  }
+  process.exit(code);
+}
+process.on('SIGINT', () => void shutdown(0));
+process.on('SIGTERM', () => void shutdown(0));
+
+async function main() {
+  let databaseUrl = process.env['DATABASE_URL'];
+  if (databaseUrl) {
+    log('DATABASE_URL is set: using that PostgreSQL, starting none');
+  } else {
+    const cluster: Cluster = ensureCluster({ dir: path.join(dataDir, 'pg'), port: pgPort, label: '[fermiwell]' });
+    const started = await startCluster(cluster, '[fermiwell]');
+    if (started) cleanups.push(() => stopCluster(cluster, '[fermiwell]'));
+    else log(`PostgreSQL already running on 127.0.0.1:${pgPort}; leaving it running at exit`);
+    await ensureDatabase(cluster.url('postgres'), 'fermiwell');
+    databaseUrl = cluster.url('fermiwell');
+  }
+  if (stopping) return;
+
+  const { applied, seeded } = await prepareDatabase(databaseUrl, { seed: true });
+  log(`database ready (${applied.length} migration(s) applied${seeded.length ? `, seeds: ${seeded.join(', ')}` : ''})`);
+
+  const services = await startLocalServices({ dataDir, test: false }, log);
+  cleanups.push(() => services.stop());
+
+  await ensureDashboardBuilt(root, log);
+  if (stopping) return;
+
+  let config;
+  try {
+    config = loadConfig({ ...process.env, ...services.env, DATABASE_URL: databaseUrl });
+  } catch (error) {
+    if (error instanceof ConfigError) {
+      console.error(error.message);
+      return shutdown(1);
+    }
+    throw error;
+  }
+  const gateway: RunningGateway = await startGateway(config);
+  cleanups.push(() => gateway.close());
+
+  const shownUrl = gateway.url;
+  console.log(`
+  Fermiwell is running.
+    Dashboard      ${shownUrl}/
+    Health         ${shownUrl}/healthz   ${shownUrl}/readyz
+    PostgreSQL     ${process.env['DATABASE_URL'] ? '(DATABASE_URL)' : `127.0.0.1:${pgPort}, data in ${path.join(dataDir, 'pg')}`}
+
+  Demo sign-ins (invented demo data, local use only):
+${DEMO_USERS.map((u) => `    ${(u.role ?? u.platformRole ?? '').padEnd(11)} ${u.email.padEnd(38)} ${u.password}`).join('\n')}
+
+  Press Ctrl-C to stop everything.
+`);
+}
+
+main().catch(async (error) => {
+  console.error(error instanceof Error ? error.message : error);
+  await shutdown(1);
+});
