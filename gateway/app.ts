@@ -11,6 +11,7 @@ import type { Config } from './config.js';
 import { healthRoutes } from './health/routes.js';
 import { dashboardRoutes } from './dashboard-static.js';
 import { notFound, problemHandler } from './shared/problem.js';
+import { createServices, type Services } from './services.js';
 
 export interface AppDeps {
   config: Config;
@@ -18,7 +19,8 @@ export interface AppDeps {
   logger: Logger;
 }
 
-export function createApp({ config, db, logger }: AppDeps) {
+export async function createApp({ config, db, logger }: AppDeps): Promise<{ app: express.Express; services: Services }> {
+  const services = createServices(config, db, logger);
   const app = express();
   app.disable('x-powered-by');
   // Large evaluation responses: hashing every body for an ETag costs ~10 ms per 20 MB (STACK.md).
@@ -50,11 +52,14 @@ export function createApp({ config, db, logger }: AppDeps) {
     }),
   );
 
+  app.use(services.metrics.middleware());
+  app.use(services.metrics.routes());
   app.use(healthRoutes(db));
-  // API features register here as their issues land (eos, keys, usage, billing, jobs, …).
+
+  // ── API features (each registers its REST router and GraphQL pieces here) ──
 
   app.use(dashboardRoutes(config.DASHBOARD_DIR));
   app.use(notFound);
   app.use(problemHandler);
-  return app;
+  return { app, services };
 }

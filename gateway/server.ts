@@ -20,7 +20,7 @@ export interface RunningGateway {
 export async function startGateway(config: Config): Promise<RunningGateway> {
   const logger = createLogger(config.LOG_LEVEL);
   const db = createDb(config.DATABASE_URL, config.DATABASE_POOL_MAX);
-  const app = createApp({ config, db, logger });
+  const { app, services } = await createApp({ config, db, logger });
   const server = http.createServer(app);
   server.keepAliveTimeout = 5_000;
   server.requestTimeout = 120_000;
@@ -46,6 +46,7 @@ export async function startGateway(config: Config): Promise<RunningGateway> {
       await drained;
       clearInterval(sweeper);
       clearTimeout(timer);
+      await services.close();
       await db.destroy();
       logger.info('gateway stopped');
       logger.flush();

@@ -12,7 +12,7 @@ import { startLocalServices } from './lib/local-services.js';
 import { ensureDashboardBuilt } from './lib/dashboard-build.js';
 import { ConfigError, loadConfig } from '../gateway/config.js';
 import { startGateway, type RunningGateway } from '../gateway/server.js';
-import { DEMO_USERS } from '../seeds/demo-accounts.js';
+import { DEMO_KEYS, DEMO_USERS, demoToken } from '../seeds/demo-accounts.js';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const log = (line: string) => console.log(`[fermiwell] ${line}`);
@@ -84,6 +84,9 @@ async function main() {
 
   Demo sign-ins (invented demo data, local use only):
 ${DEMO_USERS.map((u) => `    ${(u.role ?? u.platformRole ?? '').padEnd(11)} ${u.email.padEnd(38)} ${u.password}`).join('\n')}
+
+  Demo API key (${DEMO_KEYS[0].name}; demo database only):
+    ${demoToken(DEMO_KEYS[0])}
 
   Press Ctrl-C to stop everything.
 `);

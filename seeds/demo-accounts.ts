@@ -24,3 +24,26 @@ export const DEMO_USERS: readonly DemoUser[] = [
   { email: 'jonah.peverell@harrowgate.example', displayName: 'Jonah Peverell', password: 'white-dwarf-view', role: 'viewer', platformRole: null },
   { email: 'operator@fermiwell.example', displayName: 'Fermiwell Operator', password: 'operator-console', role: null, platformRole: 'operator' },
 ];
+
+/**
+ * The demo group's two API keys. Their secrets are fixed so `npm start` can print a working key;
+ * they exist only in the local demo database.
+ */
+export const DEMO_KEYS = [
+  {
+    id: 'hgdemo01',
+    secret: 'aUGk4tYMfu4AzlI4l1C8acWDp3Cf8e8b',
+    name: 'detonation-runs (cluster)',
+    scopes: ['eos:evaluate', 'jobs:write', 'usage:read'],
+    createdBy: 'tobias.renwick@harrowgate.example',
+  },
+  {
+    id: 'hgdemo02',
+    secret: 'GpQk3HZMNp7R0LG1rOnhqS1Zj9JBHi3N',
+    name: 'analysis notebook',
+    scopes: ['eos:evaluate', 'usage:read'],
+    createdBy: 'mira.castellane@harrowgate.example',
+  },
+] as const;
+
+export const demoToken = (key: (typeof DEMO_KEYS)[number]) => `fwk_${key.id}_${key.secret}`;

@@ -1,0 +1,34 @@
+/** Express middleware: authenticate the API key (401) and require a scope (403). */
+import type { RequestHandler } from 'express';
+import { ProblemError } from '../shared/problem.js';
+import type { KeyService } from './service.js';
+import type { ApiKeyContext, Scope } from './types.js';
+
+export function apiKeyAuth(keys: KeyService): RequestHandler {
+  return (req, res, next) => {
+    keys.authenticate(req.headers.authorization).then(
+      (context) => {
+        res.locals['apiKey'] = context;
+        next();
+      },
+      next,
+    );
+  };
+}
+
+export function requireScope(scope: Scope): RequestHandler {
+  return (_req, res, next) => {
+    const key = res.locals['apiKey'] as ApiKeyContext | undefined;
+    if (!key) return next(new ProblemError('missing-api-key', 401, 'API key required', 'Send "Authorization: Bearer fwk_…".'));
+    if (!key.scopes.includes(scope)) {
+      return next(new ProblemError('insufficient-scope', 403, 'Scope missing', `Key ${key.keyId} lacks the "${scope}" scope; create a key with it.`, { requiredScope: scope }));
+    }
+    next();
+  };
+}
+
+export function apiKeyOf(res: { locals: Record<string, unknown> }): ApiKeyContext {
+  const key = res.locals['apiKey'] as ApiKeyContext | undefined;
+  if (!key) throw new ProblemError('missing-api-key', 401, 'API key required', 'Send "Authorization: Bearer fwk_…".');
+  return key;
+}
