@@ -29,6 +29,7 @@ function processesUsing(folder: string): string[] {
 
 function startCommand(env: NodeJS.ProcessEnv): { child: ChildProcess; output: () => string; ready: Promise<string> } {
   const child = spawn('bash', ['scripts/start.sh'], { cwd: root, env, stdio: ['ignore', 'pipe', 'pipe'] });
+  children.push(child);
   let output = '';
   const ready = new Promise<string>((resolve, reject) => {
     const onData = (b: Buffer) => {
@@ -46,10 +47,23 @@ function startCommand(env: NodeJS.ProcessEnv): { child: ChildProcess; output: ()
 async function stop(child: ChildProcess, signal: NodeJS.Signals): Promise<number | null> {
   const exited = new Promise<number | null>((r) => child.once('exit', (code) => r(code)));
   child.kill(signal);
-  return exited;
+  const timer = setTimeout(() => child.kill('SIGKILL'), 30_000);
+  const code = await exited;
+  clearTimeout(timer);
+  return code;
 }
 
-after(() => {
+const children: ChildProcess[] = [];
+
+/** Whatever happened in the test: no start process and no PostgreSQL of ours may outlive it. */
+after(async () => {
+  for (const child of children) {
+    if (child.exitCode === null && child.signalCode === null) await stop(child, 'SIGTERM');
+  }
+  const clusterData = path.join(dataDir, 'pg', 'data');
+  if (processesUsing(dataDir).length > 0 && fs.existsSync(clusterData)) {
+    execFileSync('runuser', ['-u', 'postgres', '--', 'bash', '-c', `$(ls -d /usr/lib/postgresql/*/bin | tail -1)/pg_ctl -D '${clusterData}' -m immediate stop`], { cwd: '/' });
+  }
   fs.rmSync(dataDir, { recursive: true, force: true });
 });
 
@@ -73,7 +87,7 @@ test('npm start: serves readiness and the dashboard, stops cleanly, and reuses i
   assert.equal(ready.status, 200);
   const page = await fetch(`${url}/`, { headers: { accept: 'text/html' } });
   assert.equal(page.status, 200);
-  assert.match(await page.text(), /<app-root/);
+  assert.match(await page.text(), /<fw-root/);
   assert.ok(processesUsing(dataDir).length > 0, 'PostgreSQL runs from our data folder');
 
   assert.equal(await stop(first.child, 'SIGTERM'), 0);
