@@ -14,6 +14,7 @@ import { createApp } from './app.js';
 export interface RunningGateway {
   url: string;
   port: number;
+  server: http.Server;
   close(): Promise<void>;
 }
 
@@ -52,7 +53,7 @@ export async function startGateway(config: Config): Promise<RunningGateway> {
       logger.flush();
     })());
 
-  return { url, port, close };
+  return { url, port, server, close };
 }
 
 async function main() {

@@ -1,12 +1,13 @@
 /**
  * `npm test` after the installs (scripts/test.sh). Starts a throw-away PostgreSQL cluster (its own
- * folder .data/pg-test and its own port, so it runs beside `npm start`), migrates a test database,
+ * folder .data/pg-test-<port> and its own port, so it runs beside `npm start`), migrates a test database,
  * builds the dashboard if stale, runs every layer — eos, gateway, dashboard (vitest), end-to-end
  * (Chromium) — and ends with the line "N passed, N failed" (", N skipped" when any were skipped;
  * under CI a skipped test fails the run). Exit status 1 on any failure. The cluster is removed at
  * the end. Arguments: run only these test files, e.g. `npm test -- tests/eos/constants.test.ts`.
  */
 import { spawn } from 'node:child_process';
+import { randomBytes } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -19,8 +20,9 @@ import { add, parseTap, parseVitest, zero, type Counts } from './lib/test-counts
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const log = (line: string) => console.log(`[test] ${line}`);
 const dataDir = path.resolve(process.env['FW_DATA_DIR'] ?? path.join(root, '.data'));
-const clusterDir = path.join(dataDir, 'pg-test');
 const pgPort = Number(process.env['FW_TEST_PG_PORT'] ?? 54339);
+// one folder per port, so runs on different ports never touch each other's cluster
+const clusterDir = path.join(dataDir, `pg-test-${pgPort}`);
 const resultsDir = path.join(root, 'test-results');
 
 interface Layer {
@@ -152,6 +154,8 @@ async function main() {
   let total = zero();
   try {
     const env: NodeJS.ProcessEnv = { ...process.env, NODE_ENV: 'test', LOG_LEVEL: process.env['LOG_LEVEL'] ?? 'silent' };
+    // a fresh session-signing secret per run: never one written into the code (gateway/config.ts)
+    env['JWT_SECRET'] = randomBytes(32).toString('base64url');
     if (needsDatabase) {
       // A fresh cluster every run: nothing left over from an earlier run can make a test pass.
       fs.rmSync(clusterDir, { recursive: true, force: true });

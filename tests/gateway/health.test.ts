@@ -132,10 +132,13 @@ describe('configuration and the dashboard files', () => {
 
   test('graceful shutdown lets an in-flight request finish', async () => {
     const gateway = await startTestGateway();
-    const inFlight = fetch(`${gateway.url}/readyz`);
-    await new Promise((r) => setTimeout(r, 5));
-    const closing = gateway.close();
-    const res = await inFlight;
+    // begin shutting down the moment the server has the request (its handler awaits the database)
+    let closing: Promise<void> | undefined;
+    gateway.server.once('request', () => {
+      closing = gateway.close();
+    });
+    const res = await fetch(`${gateway.url}/readyz`);
+    assert.ok(closing, 'shutdown began while the request was in flight');
     assert.equal(res.status, 200);
     await closing;
     await assert.rejects(fetch(`${gateway.url}/healthz`));
