@@ -1,0 +1,834 @@
+/**
+ * Inversions of the equation of state (PHYSICS.md §5): given two of (ρ, T, P, e, s) and the
+ * composition, find ρ and T and return the full state of state.ts. Five problems:
+ *
+ *   (ρ, e) → T,  (ρ, P) → T,  (ρ, s) → T,  (P, T) → ρ,  (P, s) → (ρ, T).
+ *
+ * Method: safeguarded Newton iteration in log variables with the analytic derivatives of the
+ * forward evaluation, a bracket kept at every step, and bisection whenever a Newton step leaves the
+ * bracket (the classic safeguarded Newton–bisection scheme, e.g. Press et al. 2007, "Numerical
+ * Recipes", 3rd ed., §9.4). For the one-dimensional problems the Newton step is taken on
+ * h(y) = ln(f(y) − f(y_min)) where y is ln T (or ln ρ) and y_min the lower edge of the domain:
+ * this makes power-law, degenerate and radiation-dominated relations nearly linear in y, so the
+ * iteration converges in a few steps from the upper-bound initial guesses used here, and it gives
+ * an exact "below the domain" test. (P, s) → (ρ, T) is solved as nested one-dimensional problems:
+ * along the isentrope s(ρ, T) = s*, ln P grows with ln ρ with slope Γ1 ≥ 4/3 where matter is
+ * stable, so the outer Newton iteration on ln ρ is well conditioned; the inner one solves for T at
+ * fixed ρ, warm-started along the isentrope. Once the nested solve reaches 1e-6, a 2-D Newton
+ * iteration on (ln P − ln P*, s − s*) in (ln ρ, ln T) finishes with one evaluation per step.
+ *
+ * Convergence: a point converges when the next Newton step in ln T (or ln ρ) is below
+ * tolerance/8 (default tolerance 1e-12), or when the residual is at the rounding floor of the
+ * forward evaluation (4 ulp of the sum of the magnitudes of the component terms): where the given
+ * quantity barely depends on the unknown (e.g. the pressure of strongly degenerate matter as a
+ * function of T), the answer is then as accurate as double precision allows, and no better.
+ * (ρ, ·) → T problems are monotone everywhere in the domain (c_v > 0 and ∂P/∂T|_ρ > 0 hold even with
+ * the Coulomb correction). (P, T) → ρ and (P, s) → (ρ, T) are not monotone where the Coulomb
+ * correction makes ∂P/∂ρ|_T ≤ 0 (cold, dilute, high-Z matter, which also carries the partial-ionization
+ * warning): (P, T) → ρ scans such isotherms for a dip in P(ρ), and the status NOT_MONOTONE says the
+ * returned (converged) solution is one of several when P* lies in the dip's range; for (P, s) the
+ * status says the search met a decreasing isentrope near the solution.
+ *
+ * Accuracy (tests/eos/invert.test.ts, 10 000 states per problem over the whole domain): round
+ * trips ≤ 2.5e-13 where the problem is well conditioned, within the rounding floor elsewhere.
+ */
+import {
+  DENSITY_MAX, DENSITY_MIN, STATUS, TEMPERATURE_MAX, TEMPERATURE_MIN, PointKernel, allocateResult, densityStatus,
+  densityMessage, checkMethod, temperatureStatus, temperatureMessage, compositionStatus, failPoint, includeFlags, mixtureOf, prepareComposition,
+  storePoint, COMPONENT_NAMES, type EvaluateOptions, type EvaluateResult, type MixtureData,
+} from './state.js';
+import { toFloat64Column, type Column, type CompositionInput, type ResolvedComposition } from './composition.js';
+import { RADIATION_A } from './constants.js';
+import { electronCoupling } from './coulomb.js';
+
+export type InverseProblem =
+  | 'density-energy'
+  | 'density-pressure'
+  | 'density-entropy'
+  | 'pressure-temperature'
+  | 'pressure-entropy';
+
+export type InvertInput = CompositionInput & {
+  density?: Column;
+  temperature?: Column;
+  pressure?: Column;
+  specificEnergy?: Column;
+  specificEntropy?: Column;
+};
+
+export interface InvertOptions extends EvaluateOptions {
+  /** Relative tolerance on the solved variables (default 1e-12). */
+  tolerance?: number;
+  /** Maximum forward evaluations per point (default 200). */
+  maxEvaluations?: number;
+}
+
+export interface InvertResult extends EvaluateResult {
+  problem: InverseProblem;
+  /** Forward evaluations used per point (inner iterations included). */
+  iterations: Uint16Array;
+  /** 1 where the iteration met the tolerance (status OK or NOT_MONOTONE), else 0. */
+  converged: Uint8Array;
+  /**
+   * Condition number at the solution: the relative change of the solved variable(s) per relative
+   * change of the given quantities, measured against the sum of the magnitudes of the component
+   * terms (so it also bounds the effect of rounding). The solved variables are accurate to about
+   * max(tolerance, 4·2.2e-16·conditionNumber); above ~1e4 the given quantities barely determine them.
+   */
+  conditionNumber: Float64Array;
+}
+
+const PROBLEMS: ReadonlyArray<readonly [InverseProblem, string, string]> = [
+  ['density-energy', 'density', 'specificEnergy'],
+  ['density-pressure', 'density', 'pressure'],
+  ['density-entropy', 'density', 'specificEntropy'],
+  ['pressure-temperature', 'pressure', 'temperature'],
+  ['pressure-entropy', 'pressure', 'specificEntropy'],
+];
+const GIVEN_KEYS = ['density', 'temperature', 'pressure', 'specificEnergy', 'specificEntropy'] as const;
+
+/** Which inverse problem an input poses (from the two state variables it gives). */
+export function inverseProblemOf(input: InvertInput): InverseProblem {
+  const given = GIVEN_KEYS.filter((k) => (input as unknown as Record<string, unknown>)[k] !== undefined);
+  for (const [name, a, b] of PROBLEMS) {
+    if (given.length === 2 && given.includes(a as (typeof GIVEN_KEYS)[number]) && given.includes(b as (typeof GIVEN_KEYS)[number])) return name;
+  }
+  throw new Error(
+    `invert needs exactly two of density, temperature, pressure, specificEnergy, specificEntropy forming one of: ${PROBLEMS.map(([, a, b]) => `(${a}, ${b})`).join(', ')}; got (${given.join(', ')})`,
+  );
+}
+
+// Outcome of one probe evaluation inside the 1-D solver.
+const PROBE_OK = 0;
+const PROBE_TOO_LOW = -1; // no value, but the unknown must increase
+const PROBE_TOO_HIGH = -2; // no value, but the unknown must decrease
+
+const LN_T_MIN = Math.log(TEMPERATURE_MIN);
+const LN_T_MAX = Math.log(TEMPERATURE_MAX);
+const LN_RHO_MIN = Math.log(DENSITY_MIN);
+const LN_RHO_MAX = Math.log(DENSITY_MAX);
+const EPS = 2.220446049250313e-16;
+/** Internal: not monotone and no solution found (reported as NOT_MONOTONE with converged = 0). */
+const NOT_MONOTONE_NO_SOLUTION = 255;
+const MAX_LOG_STEP = 10;
+
+/** Which quantity a probe reads, and how the iteration transforms it. */
+const enum Qty { P, E, S }
+const enum Mode { LowerEnd, Log, Linear }
+
+/**
+ * A monotone increasing function f(y) on [yLo, yHi], evaluated by `probe`. Results of the last
+ * probe are read from f (value), fy (df/dy) and scale (magnitude of the summed terms, for the
+ * rounding floor). The solver keeps all its state in fields: no allocation per point.
+ */
+abstract class Probe {
+  f = 0;
+  fy = 0;
+  scale = 0;
+  /** Evaluate at y; return PROBE_OK, PROBE_TOO_LOW, PROBE_TOO_HIGH or a STATUS failure (> 0). */
+  abstract at(y: number): number;
+  /** Initial guess from the value and slope at the lower edge (LowerEnd mode only). */
+  abstract guess(fLo: number, fyLo: number, target: number): number;
+}
+
+class Solver1D {
+  iterations = 0;
+  /** The relation was seen decreasing somewhere during the search. */
+  nonMonotone = false;
+  y = NaN;
+  /** Value at the lower edge when it was evaluated (for messages). */
+  fLo = NaN;
+  /** Last value seen at the upper edge (for messages). */
+  fHi = NaN;
+  /** Final bracket. */
+  a = NaN;
+  b = NaN;
+  private bad = new Float64Array(32);
+  private nBad = 0;
+  /** Largest step in y per iteration. */
+  maxStep = MAX_LOG_STEP;
+  constructor(public tol: number, private maxEval: number) {}
+
+  private noteSlope(y: number, fy: number): void {
+    if (fy > 0) return;
+    this.nonMonotone = true;
+    if (this.nBad < this.bad.length) this.bad[this.nBad++] = y;
+  }
+
+  /**
+   * Where a solution was found: NOT_MONOTONE if the relation decreases at the solution or at a
+   * point seen inside the final bracket (another solution may then exist nearby), else OK. A
+   * decrease seen outside the final bracket does not make the solution ambiguous there.
+   */
+  private found(y: number, fy: number, a: number, b: number): number {
+    this.y = y;
+    this.a = a;
+    this.b = b;
+    if (!(fy > 0)) return STATUS.NOT_MONOTONE;
+    for (let i = 0; i < this.nBad; i++) if (this.bad[i] > a && this.bad[i] < b) return STATUS.NOT_MONOTONE;
+    return STATUS.OK;
+  }
+
+  /**
+   * Solve f(y) = target. `warm` (finite) replaces the guess from the lower edge. Returns a STATUS
+   * code; on OK or NOT_MONOTONE the probe's kernel holds the solution and `y` its coordinate.
+   */
+  solve(p: Probe, yLo: number, yHi: number, target: number, mode: Mode, warm: number): number {
+    this.nonMonotone = false;
+    this.nBad = 0;
+    this.fLo = NaN;
+    this.fHi = NaN;
+    const stepTol = this.tol / 8;
+    const budgetEnd = this.iterations + this.maxEval;
+    let a = yLo; // f(a) < target known when aKnown
+    let b = yHi; // f(b) > target known when bKnown
+    let aKnown = false;
+    let bKnown = false;
+    let fLo = NaN;
+    let y: number;
+    if (mode === Mode.LowerEnd) {
+      const st = p.at(yLo);
+      this.iterations++;
+      if (st > 0) return st;
+      if (st === PROBE_TOO_HIGH) return STATUS.NO_SOLUTION_BELOW_DOMAIN;
+      if (st === PROBE_OK) {
+        const r = p.f - target;
+        this.fLo = p.f;
+        this.noteSlope(yLo, p.fy);
+        if (this.isConverged(r, p, stepTol)) return this.found(yLo, p.fy, yLo, yHi);
+        if (r > 0) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_BELOW_DOMAIN;
+        fLo = p.f;
+        aKnown = true;
+        y = Number.isFinite(warm) ? warm : p.guess(p.f, p.fy, target);
+      } else {
+        aKnown = true; // too low at the lower edge: any solution is above
+        y = Number.isFinite(warm) ? warm : 0.5 * (yLo + yHi);
+      }
+    } else {
+      y = warm;
+    }
+    if (!Number.isFinite(y)) y = 0.5 * (yLo + yHi);
+    y = Math.min(yHi, Math.max(yLo, y));
+    if (aKnown && y <= yLo) y = yLo + Math.min(1e-3, 0.5 * (yHi - yLo));
+    while (this.iterations < budgetEnd) {
+      const st = p.at(y);
+      this.iterations++;
+      if (st > 0) return st;
+      let next: number;
+      if (st === PROBE_TOO_LOW || st === PROBE_TOO_HIGH) {
+        if (st === PROBE_TOO_LOW) {
+          if (y >= yHi) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_ABOVE_DOMAIN;
+          a = y;
+          aKnown = true;
+        } else {
+          if (y <= yLo) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_BELOW_DOMAIN;
+          b = y;
+          bKnown = true;
+        }
+        if (aKnown && bKnown) next = 0.5 * (a + b);
+        else if (st === PROBE_TOO_LOW) next = Math.min(yHi, y + this.maxStep);
+        else next = Math.max(yLo, y - this.maxStep);
+        y = next;
+        continue;
+      }
+      const r = p.f - target;
+      this.noteSlope(y, p.fy);
+      if (y >= yHi) this.fHi = p.f;
+      if (this.isConverged(r, p, stepTol)) return this.found(y, p.fy, a, b);
+      if (r > 0) {
+        b = y;
+        bKnown = true;
+      } else {
+        a = y;
+        aKnown = true;
+      }
+      let dy = NaN;
+      if (p.fy > 0) {
+        dy = -r / p.fy;
+        if (mode === Mode.LowerEnd) {
+          const g = p.f - fLo;
+          const gt = target - fLo;
+          if (g > 0 && gt > 0) dy = -(Math.log(g) - Math.log(gt)) * (g / p.fy);
+        } else if (mode === Mode.Log && p.f > 0 && target > 0) {
+          dy = -(Math.log(p.f) - Math.log(target)) * (p.f / p.fy);
+        }
+      }
+      if (dy > this.maxStep) dy = this.maxStep;
+      else if (dy < -this.maxStep) dy = -this.maxStep;
+      next = y + dy;
+      const lowEdge = aKnown ? a : yLo;
+      const highEdge = bKnown ? b : yHi;
+      if (!(next > lowEdge && next < highEdge)) {
+        if (aKnown && bKnown) next = 0.5 * (a + b);
+        else if (!bKnown) {
+          // the root is above y and above every point seen
+          if (y >= yHi) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_ABOVE_DOMAIN;
+          next = Math.min(yHi, Number.isFinite(dy) ? y + Math.max(dy, 1e-3) : y + this.maxStep);
+          if (!(next > y)) next = yHi;
+        } else {
+          if (y <= yLo) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_BELOW_DOMAIN;
+          next = Math.max(yLo, Number.isFinite(dy) ? y + Math.min(dy, -1e-3) : y - this.maxStep);
+          if (!(next < y)) next = yLo;
+        }
+      }
+      if (aKnown && bKnown && b - a <= 4 * EPS * Math.max(1, Math.abs(a))) {
+        // the bracket is exhausted at the resolution of y: the solution is here
+        return this.found(y, p.fy, a, b);
+      }
+      y = next;
+    }
+    return STATUS.NOT_CONVERGED;
+  }
+
+  private isConverged(r: number, p: Probe, stepTol: number): boolean {
+    if (Math.abs(r) <= 4 * EPS * p.scale) return true;
+    return p.fy > 0 && Math.abs(r / p.fy) <= stepTol;
+  }
+}
+
+/** Sum of |component value| of a quantity in the kernel (rounding-floor scale). */
+function magnitude(k: PointKernel, q: Qty): number {
+  const inc = k.include;
+  if (q === Qty.P) {
+    return (inc.electrons ? Math.abs(k.electrons.P) : 0) + (inc.positrons ? Math.abs(k.positrons.P) : 0) +
+      (inc.ions ? Math.abs(k.ions.P) : 0) + (inc.photons ? Math.abs(k.photons.P) : 0) + (inc.coulomb ? Math.abs(k.coulomb.P) : 0);
+  }
+  if (q === Qty.E) {
+    return (inc.electrons ? Math.abs(k.electrons.e) : 0) + (inc.positrons ? Math.abs(k.positrons.e) : 0) +
+      (inc.ions ? Math.abs(k.ions.e) : 0) + (inc.photons ? Math.abs(k.photons.e) : 0) + (inc.coulomb ? Math.abs(k.coulomb.e) : 0);
+  }
+  return (inc.electrons ? Math.abs(k.electrons.s) : 0) + (inc.positrons ? Math.abs(k.positrons.s) : 0) +
+    (inc.ions ? Math.abs(k.ions.s) : 0) + (inc.photons ? Math.abs(k.photons.s) : 0) + (inc.coulomb ? Math.abs(k.coulomb.s) : 0);
+}
+
+/** Point context shared by the probes. */
+class PointContext {
+  rho = NaN;
+  T = NaN;
+  abar = NaN;
+  zbar = NaN;
+  row = 0;
+  constructor(readonly kernel: PointKernel, readonly mixture: MixtureData | null) {}
+  compute(rho: number, T: number): number {
+    this.rho = rho;
+    this.T = T;
+    return this.kernel.compute(rho, T, this.abar, this.zbar, this.mixture, this.row);
+  }
+}
+
+/** f(ln T) = P, e or s at fixed ρ. */
+class TemperatureProbe extends Probe {
+  rho = NaN;
+  q: Qty = Qty.E;
+  constructor(private ctx: PointContext) { super(); }
+  at(y: number): number {
+    const T = y >= LN_T_MAX ? TEMPERATURE_MAX : y <= LN_T_MIN ? TEMPERATURE_MIN : Math.exp(y);
+    const st = this.ctx.compute(this.rho, T);
+    if (st !== STATUS.OK) return st;
+    const t = this.ctx.kernel.total;
+    if (this.q === Qty.P) { this.f = t.P; this.fy = T * t.dPdT; }
+    else if (this.q === Qty.E) { this.f = t.e; this.fy = T * t.dEdT; }
+    else { this.f = t.s; this.fy = T * t.dSdT; }
+    this.scale = magnitude(this.ctx.kernel, this.q);
+    return PROBE_OK;
+  }
+  guess(fLo: number, fyLo: number, target: number): number {
+    const df = target - fLo;
+    const tLo = TEMPERATURE_MIN;
+    let t: number;
+    if (this.q === Qty.E) {
+      // e − e_lo ≥ a(T⁴ − T_lo⁴)/ρ and ≥ c_v(T_lo)(T − T_lo) where c_v grows with T
+      t = Math.min(tLo + df / (fyLo / tLo), Math.pow((this.rho * df) / RADIATION_A + tLo ** 4, 0.25));
+    } else if (this.q === Qty.P) {
+      t = Math.min(tLo + df / (fyLo / tLo), Math.pow((3 * df) / RADIATION_A + tLo ** 4, 0.25));
+    } else {
+      // s − s_lo ≈ c_v ln(T/T_lo) for constant c_v; radiation s = 4aT³/(3ρ)
+      t = Math.min(tLo * Math.exp(Math.min(df / fyLo, 700)), Math.cbrt((3 * this.rho * df) / (4 * RADIATION_A) + tLo ** 3));
+    }
+    if (!(t > tLo)) t = tLo * 1.001;
+    return Math.log(Math.min(t, TEMPERATURE_MAX));
+  }
+}
+
+/** f(ln ρ) = P at fixed T. */
+class DensityProbe extends Probe {
+  T = NaN;
+  constructor(private ctx: PointContext) { super(); }
+  at(y: number): number {
+    const rho = y >= LN_RHO_MAX ? DENSITY_MAX : y <= LN_RHO_MIN ? DENSITY_MIN : Math.exp(y);
+    const st = this.ctx.compute(rho, this.T);
+    if (st !== STATUS.OK) return st;
+    const t = this.ctx.kernel.total;
+    this.f = t.P;
+    this.fy = rho * t.dPdRho;
+    this.scale = magnitude(this.ctx.kernel, Qty.P);
+    return PROBE_OK;
+  }
+  guess(fLo: number, fyLo: number, target: number): number {
+    // P − P_lo ≥ (∂P/∂ρ)_lo (ρ − ρ_lo) where P is convex in ρ (ideal and degenerate gases)
+    let rho = DENSITY_MIN + (target - fLo) / (fyLo / DENSITY_MIN);
+    if (!(rho > DENSITY_MIN)) rho = DENSITY_MIN * 1.001;
+    return Math.log(Math.min(rho, DENSITY_MAX));
+  }
+}
+
+/** f(ln ρ) = P along the isentrope s = s*, via an inner (ρ, s) → T solve. */
+class IsentropeProbe extends Probe {
+  entropy = NaN;
+  /** Last point found on the isentrope (ln ρ, ln T) and its slope d ln T/d ln ρ there. */
+  lastX = NaN;
+  lastLnT = NaN;
+  slope = NaN;
+  innerNonMonotone = false;
+  constructor(private ctx: PointContext, private inner: Solver1D, private tProbe: TemperatureProbe) { super(); }
+  reset(): void {
+    this.lastX = this.lastLnT = this.slope = NaN;
+    this.innerNonMonotone = false;
+  }
+  at(y: number): number {
+    const rho = y >= LN_RHO_MAX ? DENSITY_MAX : y <= LN_RHO_MIN ? DENSITY_MIN : Math.exp(y);
+    const tp = this.tProbe;
+    tp.rho = rho;
+    tp.q = Qty.S;
+    let st: number;
+    if (Number.isFinite(this.lastLnT)) {
+      // follow the isentrope from the last point found: d ln T/d ln ρ|_s = −ρ s_ρ/(T s_T)
+      let warm = this.lastLnT + (Number.isFinite(this.slope) ? this.slope * (y - this.lastX) : 0);
+      warm = Math.min(LN_T_MAX, Math.max(LN_T_MIN, warm));
+      st = this.inner.solve(tp, LN_T_MIN, LN_T_MAX, this.entropy, this.entropy > 0 ? Mode.Log : Mode.Linear, warm);
+    } else {
+      st = this.inner.solve(tp, LN_T_MIN, LN_T_MAX, this.entropy, Mode.LowerEnd, NaN);
+    }
+    this.innerNonMonotone = st === STATUS.NOT_MONOTONE;
+    // s decreases with ρ at fixed T: no T cold enough means ρ is too low, no T hot enough means too high
+    if (st === STATUS.NO_SOLUTION_BELOW_DOMAIN) return PROBE_TOO_LOW;
+    if (st === STATUS.NO_SOLUTION_ABOVE_DOMAIN) return PROBE_TOO_HIGH;
+    if (st !== STATUS.OK && st !== STATUS.NOT_MONOTONE) return st === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_CONVERGED : st;
+    const t = this.ctx.kernel.total;
+    this.lastX = y;
+    this.lastLnT = this.inner.y;
+    this.slope = -(rho * t.dSdRho) / (this.ctx.T * t.dSdT);
+    this.f = t.P;
+    // ρ (∂P/∂ρ)_s = ρ [∂P/∂ρ|_T − ∂P/∂T|_ρ (∂s/∂ρ|_T)/(∂s/∂T|_ρ)]  (= Γ1 P)
+    this.fy = rho * (t.dPdRho - (t.dPdT * t.dSdRho) / t.dSdT);
+    this.scale = magnitude(this.ctx.kernel, Qty.P);
+    return PROBE_OK;
+  }
+  guess(): number {
+    return 0;
+  }
+}
+
+/**
+ * Highest temperature at which ∂P/∂ρ|_T ≤ 0 occurs anywhere in the domain, measured on fine ρ-T
+ * grids: 5.6e3 K for Z = 1, 2.2e4 K (Z = 2), 1.4e5 K (Z = 6), 1.3e6 K (Z = 26), 4.0e6 K (Z = 60),
+ * 1.0e7 K (Z = 120), nearly independent of A. Isotherms above min(2e7, 1.2e4·Z_max²) K — at least
+ * twice the measured limits — are monotone and are not scanned.
+ */
+export const COULOMB_INSTABILITY_T_MAX = 2e7;
+export function coulombInstabilityTMax(zmax: number): number {
+  return Math.min(COULOMB_INSTABILITY_T_MAX, 1.2e4 * zmax * zmax);
+}
+const SCAN_STEP = 0.25 * Math.LN10;
+
+/**
+ * Is P(ρ) = P* unique on the isotherm T? Scans ln ρ upward in steps of 0.25 dex from where the
+ * coupling Γ(ρ) reaches (1 + Z)/3 (below, the ideal gases dominate and P rises with ρ) until the
+ * electrons are degenerate and outweigh the Coulomb term by 20. A step whose secant slope falls
+ * below half the smaller end slope is bisected (up to 4 times), so narrow dips are not missed.
+ * If P decreases somewhere, P* is ambiguous when it lies between the local minimum and maximum,
+ * bounded from the samples and their slopes (and widened by 5% of their difference).
+ */
+class IsothermScan {
+  status = 0;
+  unique = true;
+  monotone = true;
+  evaluations = 0;
+  private prevP = NaN;
+  private prevS = NaN;
+  private prevX = NaN;
+  private pMax = -Infinity;
+  private pMin = Infinity;
+  private sawDip = false;
+  private T = NaN;
+  constructor(private ctx: PointContext) {}
+
+  run(T: number, target: number, zmax: number): void {
+    this.status = 0;
+    this.unique = true;
+    this.monotone = true;
+    this.evaluations = 0;
+    this.prevP = NaN;
+    this.prevS = NaN;
+    this.prevX = NaN;
+    this.pMax = -Infinity;
+    this.pMin = Infinity;
+    this.sawDip = false;
+    this.T = T;
+    const ctx = this.ctx;
+    const z = Math.max(zmax, ctx.zbar);
+    if (T > coulombInstabilityTMax(z)) return;
+    const ge1 = electronCoupling(1, T, ctx.zbar / ctx.abar);
+    const g0 = (1 + ctx.zbar) / 3 / (Math.pow(z, 5 / 3) * ge1);
+    let x = Math.max(LN_RHO_MIN, 3 * Math.log(g0));
+    if (x >= LN_RHO_MAX) return;
+    if (!this.sample(x)) return;
+    let p1 = this.ctx.kernel.total.P;
+    let s1 = this.ctx.rho * this.ctx.kernel.total.dPdRho;
+    while (x < LN_RHO_MAX) {
+      const x2 = Math.min(LN_RHO_MAX, x + SCAN_STEP);
+      if (!this.segment(x, p1, s1, x2, 0)) return;
+      const t = this.ctx.kernel.total;
+      p1 = t.P;
+      s1 = this.ctx.rho * t.dPdRho;
+      x = x2;
+      if (this.ctx.kernel.pair.eta > 20 && t.dPdRho > 0 && t.P > 20 * Math.abs(this.ctx.kernel.coulomb.P)) break;
+    }
+    if (!this.sawDip) return;
+    this.monotone = false;
+    const pad = 0.05 * Math.abs(this.pMax - this.pMin);
+    this.unique = !(target >= this.pMin - pad && target <= this.pMax + pad);
+  }
+
+  /** Evaluate at x2 (after refining [x1, x2] if needed); on return the kernel holds x2. */
+  private segment(x1: number, p1: number, s1: number, x2: number, depth: number): boolean {
+    if (!this.evaluate(x2)) return false;
+    const t = this.ctx.kernel.total;
+    const p2 = t.P;
+    const s2 = this.ctx.rho * t.dPdRho;
+    const secant = (p2 - p1) / (x2 - x1);
+    if (depth < 4 && s1 > 0 && s2 > 0 && secant < 0.5 * Math.min(s1, s2)) {
+      const xm = 0.5 * (x1 + x2);
+      // refine: left half (feeds samples in order), then the right half
+      if (!this.segment(x1, p1, s1, xm, depth + 1)) return false;
+      const tm = this.ctx.kernel.total;
+      return this.segment(xm, tm.P, this.ctx.rho * tm.dPdRho, x2, depth + 1);
+    }
+    this.observe(p2, s2);
+    return true;
+  }
+
+  private sample(x: number): boolean {
+    if (!this.evaluate(x)) return false;
+    const t = this.ctx.kernel.total;
+    this.observe(t.P, this.ctx.rho * t.dPdRho);
+    return true;
+  }
+
+  private evaluate(x: number): boolean {
+    const st = this.ctx.compute(Math.exp(Math.min(x, LN_RHO_MAX)), this.T);
+    this.evaluations++;
+    if (st !== STATUS.OK) {
+      this.status = st;
+      return false;
+    }
+    return true;
+  }
+
+  private observe(p: number, slope: number): void {
+    const x = Math.log(this.ctx.rho);
+    const decreasing = !(slope > 0) || p <= this.prevP;
+    if (decreasing) {
+      // Bound the local extremes between samples by a first-order step from the neighbours: a
+      // conservative widening (it may flag a few unique targets as ambiguous, never the reverse
+      // for dips resolved by the samples).
+      if (!this.sawDip && Number.isFinite(this.prevP)) {
+        this.pMax = Math.max(this.pMax, this.prevP + Math.max(this.prevS, 0) * (x - this.prevX));
+      }
+      this.sawDip = true;
+      this.pMax = Math.max(this.pMax, p);
+      this.pMin = Math.min(this.pMin, p - Math.abs(Math.min(slope, 0)) * SCAN_STEP, p);
+    } else if (!this.sawDip) {
+      this.pMax = p;
+    }
+    this.prevP = p;
+    this.prevS = slope;
+    this.prevX = x;
+  }
+}
+
+const NEWTON_FALLBACK = -100;
+
+/**
+ * Two-dimensional Newton iteration for (P, s) → (ln ρ, ln T) on the residuals (ln P − ln P*,
+ * s − s*), with the Jacobian (χ_ρ, χ_T; ρ∂s/∂ρ, T∂s/∂T) from the analytic derivatives (its
+ * determinant is c_v Γ1/T·(T/P)·..., positive where matter is stable), steps capped at a factor e²
+ * and a backtracking line search on the scaled residual norm. Returns STATUS.OK with the kernel at
+ * the solution, a failure status, or NEWTON_FALLBACK with the best point in x, y.
+ */
+class Newton2D {
+  iterations = 0;
+  x = NaN;
+  y = NaN;
+  constructor(private maxEval: number) {}
+  solve(ctx: PointContext, pT: number, sT: number, x0: number, y0: number, tol: number): number {
+    const k = ctx.kernel;
+    this.iterations = 0;
+    let x = x0;
+    let y = y0;
+    this.x = x;
+    this.y = y;
+    const stepTol = tol / 8;
+    const lnPT = Math.log(pT);
+    for (let it = 0; it < 40 && this.iterations < this.maxEval; it++) {
+      const t = k.total;
+      const rho = ctx.rho;
+      const T = ctx.T;
+      if (!(t.P > 0)) return NEWTON_FALLBACK;
+      const magP = magnitude(k, Qty.P);
+      const magS = magnitude(k, Qty.S);
+      const f1 = Math.log(t.P) - lnPT;
+      const f2 = t.s - sT;
+      if (Math.abs(f1) <= (4 * EPS * magP) / t.P && Math.abs(f2) <= 4 * EPS * magS) return STATUS.OK;
+      const j11 = (rho * t.dPdRho) / t.P;
+      const j12 = (T * t.dPdT) / t.P;
+      const j21 = rho * t.dSdRho;
+      const j22 = T * t.dSdT;
+      const det = j11 * j22 - j12 * j21;
+      if (!(det > 0)) return NEWTON_FALLBACK;
+      let dx = (-f1 * j22 + f2 * j12) / det;
+      let dy = (-f2 * j11 + f1 * j21) / det;
+      if (Math.abs(dx) <= stepTol && Math.abs(dy) <= stepTol) return STATUS.OK;
+      const m = Math.max(Math.abs(dx), Math.abs(dy));
+      if (m > 2) {
+        dx *= 2 / m;
+        dy *= 2 / m;
+      }
+      const merit0 = f1 * f1 + (f2 / magS) * (f2 / magS);
+      const small = m < 1e-6;
+      let lambda = 1;
+      let accepted = false;
+      for (let ls = 0; ls < 6; ls++) {
+        const xn = Math.min(LN_RHO_MAX, Math.max(LN_RHO_MIN, x + lambda * dx));
+        const yn = Math.min(LN_T_MAX, Math.max(LN_T_MIN, y + lambda * dy));
+        const st = ctx.compute(Math.exp(xn), Math.exp(yn));
+        this.iterations++;
+        if (st !== STATUS.OK) return st;
+        const tn = k.total;
+        let merit = Infinity;
+        if (tn.P > 0) {
+          const g1 = Math.log(tn.P) - lnPT;
+          const g2 = (tn.s - sT) / magS;
+          merit = g1 * g1 + g2 * g2;
+        }
+        if (small || merit < merit0) {
+          x = xn;
+          y = yn;
+          accepted = true;
+          break;
+        }
+        lambda *= 0.5;
+      }
+      this.x = x;
+      this.y = y;
+      if (!accepted) return NEWTON_FALLBACK;
+    }
+    return NEWTON_FALLBACK;
+  }
+}
+
+const QTY_WORD: Record<number, string> = { [Qty.P]: 'pressure', [Qty.E]: 'specific energy', [Qty.S]: 'specific entropy' };
+const fmt = (x: number) => (Number.isFinite(x) ? x.toPrecision(6) : String(x));
+
+/**
+ * Solve one of the five inverse problems at every point (inputs broadcast like evaluate). The
+ * problem follows from the two state variables given. Output: evaluate's columns at the solution
+ * (density and temperature hold the solved values), plus iterations and converged per point.
+ */
+export function invert(input: InvertInput, options: InvertOptions = {}): InvertResult {
+  if (input === null || typeof input !== 'object') throw new Error('invert needs an input object');
+  checkMethod(options);
+  const problem = inverseProblemOf(input);
+  const tol = options.tolerance ?? 1e-12;
+  if (!(tol > 0 && tol < 1e-2)) throw new Error(`tolerance ${tol} must be in (0, 1e-2)`);
+  const maxEval = options.maxEvaluations ?? 200;
+  if (!(maxEval >= 4 && maxEval <= 60000)) throw new Error(`maxEvaluations ${maxEval} must be between 4 and 60000`);
+  const inc = includeFlags(options.components);
+  const included = COMPONENT_NAMES.filter((c) => inc[c]);
+  const [, keyA, keyB] = PROBLEMS.find(([p]) => p === problem)!;
+  const colA = (input as unknown as Record<string, Column>)[keyA];
+  const colB = (input as unknown as Record<string, Column>)[keyB];
+  const { n, comp } = prepareComposition(input, [[keyA, colA], [keyB, colB]]);
+  const A = toFloat64Column(colA, n, keyA);
+  const B = toFloat64Column(colB, n, keyB);
+  const res = allocateResult(n, included, options.maxwellResiduals === true) as InvertResult;
+  res.problem = problem;
+  res.iterations = new Uint16Array(n);
+  res.converged = new Uint8Array(n);
+  res.conditionNumber = new Float64Array(n).fill(NaN);
+  res.density.fill(NaN); // the unknowns stay NaN where no solution is found
+  res.temperature.fill(NaN);
+  res.abar.set(comp.abar);
+  res.zbar.set(comp.zbar);
+  res.ye.set(comp.ye);
+  const relativistic = options.soundSpeed === 'relativistic';
+  const kernel = new PointKernel(inc);
+  const ctx = new PointContext(kernel, mixtureOf(comp));
+  const outer = new Solver1D(tol, maxEval);
+  const inner = new Solver1D(tol / 16, maxEval);
+  const tProbe = new TemperatureProbe(ctx);
+  const dProbe = new DensityProbe(ctx);
+  const innerTProbe = new TemperatureProbe(ctx);
+  const sProbe = new IsentropeProbe(ctx, inner, innerTProbe);
+  const newton = new Newton2D(maxEval);
+  const scan = new IsothermScan(ctx);
+  outer.maxStep = problem === 'pressure-entropy' ? 30 : MAX_LOG_STEP;
+
+  for (let i = 0; i < n; i++) {
+    const a = A[i];
+    const b = B[i];
+    if (problem === 'pressure-temperature') res.temperature[i] = b;
+    else if (problem !== 'pressure-entropy') res.density[i] = a;
+    let st = pointInputStatus(problem, a, b, comp, i);
+    if (st !== STATUS.OK) {
+      failPoint(res, i, st, pointInputMessage(problem, a, b, comp, i));
+      continue;
+    }
+    ctx.abar = comp.abar[i];
+    ctx.zbar = comp.zbar[i];
+    ctx.row = i;
+    outer.iterations = 0;
+    inner.iterations = 0;
+    let qty = Qty.E;
+    if (problem === 'pressure-temperature') {
+      dProbe.T = b;
+      st = outer.solve(dProbe, LN_RHO_MIN, LN_RHO_MAX, a, Mode.LowerEnd, NaN);
+      if (st === STATUS.OK || st === STATUS.NOT_MONOTONE) {
+        // P(ρ) at fixed T is not monotone where the Coulomb term wins: check this isotherm.
+        const rhoStar = ctx.rho;
+        scan.run(b, a, comp.zmax[i]);
+        outer.iterations += scan.evaluations;
+        if (scan.status > 0) st = scan.status;
+        else {
+          if (!scan.unique) st = STATUS.NOT_MONOTONE;
+          else if (st === STATUS.NOT_MONOTONE && scan.monotone) st = STATUS.OK;
+          if (scan.evaluations > 0) {
+            const st2 = ctx.compute(rhoStar, b);
+            outer.iterations++;
+            if (st2 !== STATUS.OK) st = st2;
+          }
+        }
+      }
+      qty = Qty.P;
+    } else if (problem === 'pressure-entropy') {
+      sProbe.entropy = b;
+      sProbe.reset();
+      // Nested 1-D solves to 1e-6, then 2-D Newton polishes to the tolerance (one evaluation per
+      // step); if that fails, the nested solve continues to the full tolerance.
+      outer.tol = Math.max(tol, 1e-6);
+      st = outer.solve(sProbe, LN_RHO_MIN, LN_RHO_MAX, a, Mode.Log, 0);
+      outer.tol = tol;
+      if ((st === STATUS.OK || st === STATUS.NOT_MONOTONE) && tol < 1e-6) {
+        const stN = newton.solve(ctx, a, b, outer.y, inner.y, tol);
+        outer.iterations += newton.iterations;
+        if (stN === NEWTON_FALLBACK || stN > 0) st = outer.solve(sProbe, LN_RHO_MIN, LN_RHO_MAX, a, Mode.Log, outer.y);
+      }
+      if (st === STATUS.OK && sProbe.innerNonMonotone) st = STATUS.NOT_MONOTONE;
+      qty = Qty.P;
+    } else {
+      tProbe.rho = a;
+      tProbe.q = problem === 'density-energy' ? Qty.E : problem === 'density-pressure' ? Qty.P : Qty.S;
+      qty = tProbe.q;
+      st = outer.solve(tProbe, LN_T_MIN, LN_T_MAX, b, Mode.LowerEnd, NaN);
+    }
+    const evals = outer.iterations + inner.iterations;
+    res.iterations[i] = Math.min(evals, 65535);
+    if (st === STATUS.OK || st === STATUS.NOT_MONOTONE) {
+      res.density[i] = ctx.rho;
+      res.temperature[i] = ctx.T;
+      storePoint(res, i, kernel, comp.zmax[i], relativistic);
+      res.conditionNumber[i] = conditionNumber(kernel, problem, ctx.rho, ctx.T);
+      res.converged[i] = 1;
+      res.status[i] = st;
+      if (st === STATUS.NOT_MONOTONE) {
+        res.messages[i] = `a solution was found, but ${problem === 'pressure-entropy' ? 'P along the isentrope' : 'P(ρ) at this T'} is not monotone here (the Coulomb correction makes ∂P/∂ρ ≤ 0): other states may give the same ${keyA} and ${keyB}`;
+      }
+      continue;
+    }
+    failPoint(res, i, st === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_MONOTONE : st, failureMessage(st, problem, a, b, qty, outer, evals));
+  }
+  return res;
+}
+
+function conditionNumber(k: PointKernel, problem: InverseProblem, rho: number, T: number): number {
+  const t = k.total;
+  switch (problem) {
+    case 'density-energy':
+      return magnitude(k, Qty.E) / Math.abs(T * t.dEdT);
+    case 'density-pressure':
+      return magnitude(k, Qty.P) / Math.abs(T * t.dPdT);
+    case 'density-entropy':
+      return magnitude(k, Qty.S) / Math.abs(T * t.dSdT);
+    case 'pressure-temperature':
+      return magnitude(k, Qty.P) / Math.abs(rho * t.dPdRho);
+    default: {
+      // J = ∂(P/|P|, s/|s|)/∂(ln ρ, ln T) with |·| the summed magnitudes; κ = ‖J⁻¹‖_∞
+      const mp = magnitude(k, Qty.P);
+      const ms = magnitude(k, Qty.S);
+      const j11 = (rho * t.dPdRho) / mp, j12 = (T * t.dPdT) / mp;
+      const j21 = (rho * t.dSdRho) / ms, j22 = (T * t.dSdT) / ms;
+      const det = j11 * j22 - j12 * j21;
+      return Math.max(Math.abs(j22) + Math.abs(j12), Math.abs(j21) + Math.abs(j11)) / Math.abs(det);
+    }
+  }
+}
+
+/** Status of one point's inputs (no allocation). */
+function pointInputStatus(problem: InverseProblem, a: number, b: number, comp: ResolvedComposition, i: number): number {
+  if (problem === 'pressure-temperature') {
+    const st = temperatureStatus(b);
+    if (st !== STATUS.OK) return st;
+    if (!(Number.isFinite(a) && a > 0)) return STATUS.TARGET_INVALID;
+  } else if (problem === 'pressure-entropy') {
+    if (!(Number.isFinite(a) && a > 0) || !Number.isFinite(b)) return STATUS.TARGET_INVALID;
+  } else {
+    const st = densityStatus(a);
+    if (st !== STATUS.OK) return st;
+    if (!Number.isFinite(b)) return STATUS.TARGET_INVALID;
+  }
+  return compositionStatus(comp, i);
+}
+
+/** What is wrong with one point's inputs (called only for failed points). */
+function pointInputMessage(problem: InverseProblem, a: number, b: number, comp: ResolvedComposition, i: number): string {
+  if (problem === 'pressure-temperature') {
+    if (temperatureStatus(b) !== STATUS.OK) return temperatureMessage(b);
+    if (!(Number.isFinite(a) && a > 0)) return `pressure ${a} must be a positive finite number (erg/cm³)`;
+  } else if (problem === 'pressure-entropy') {
+    if (!(Number.isFinite(a) && a > 0)) return `pressure ${a} must be a positive finite number (erg/cm³)`;
+    if (!Number.isFinite(b)) return `specific entropy ${b} must be a finite number (erg/g/K)`;
+  } else {
+    if (densityStatus(a) !== STATUS.OK) return densityMessage(a);
+    if (!Number.isFinite(b)) {
+      const what = problem === 'density-energy' ? 'specific energy' : problem === 'density-pressure' ? 'pressure' : 'specific entropy';
+      return `${what} ${b} must be a finite number`;
+    }
+  }
+  return comp.messages[i];
+}
+
+function failureMessage(
+  st: number, problem: InverseProblem, a: number, b: number, q: Qty, s: Solver1D, evals: number,
+): string {
+  const solvingT = problem.startsWith('density-');
+  const unknown = solvingT ? 'temperature' : problem === 'pressure-temperature' ? 'density' : 'density and temperature';
+  const range = solvingT
+    ? `[${TEMPERATURE_MIN}, ${TEMPERATURE_MAX}] K`
+    : `[${DENSITY_MIN}, ${DENSITY_MAX}] g/cm³`;
+  const target = problem === 'pressure-entropy' ? `pressure ${fmt(a)} and specific entropy ${fmt(b)}` : `${QTY_WORD[q]} ${fmt(solvingT ? b : a)}`;
+  const at = solvingT ? ` at density ${fmt(a)} g/cm³` : problem === 'pressure-temperature' ? ` at temperature ${fmt(b)} K` : '';
+  switch (st) {
+    case STATUS.NO_SOLUTION_BELOW_DOMAIN:
+      return `no ${unknown} in ${range} gives ${target}${at}: the target is below what the domain reaches${Number.isFinite(s.fLo) ? ` (lowest ${fmt(s.fLo)})` : ''}`;
+    case STATUS.NO_SOLUTION_ABOVE_DOMAIN:
+      return `no ${unknown} in ${range} gives ${target}${at}: the target is above what the domain reaches${Number.isFinite(s.fHi) ? ` (highest ${fmt(s.fHi)})` : ''}`;
+    case NOT_MONOTONE_NO_SOLUTION:
+      return `no solution found for ${target}${at}: the relation is not monotone here (the Coulomb correction makes ∂P/∂ρ ≤ 0), so a solution may exist off the search path`;
+    case STATUS.NOT_CONVERGED:
+      return `no convergence for ${target}${at} after ${evals} evaluations`;
+    case STATUS.PAIR_SOLVER_FAILED:
+      return `the electron–positron neutrality solve failed while solving for ${unknown} (${target}${at})`;
+    default:
+      return `failed with status ${st} for ${target}${at}`;
+  }
+}
