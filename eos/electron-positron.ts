@@ -436,7 +436,10 @@ export function pairGas(d: number, T: number, out: PairGasState, etaGuess?: numb
   out.pressure = e.pressure + p.pressure;
   out.energy = e.energy + p.energy;
   out.entropy = e.entropy + p.entropy;
-  out.dPdD = e.dPdD + p.dPdD;
+  // ∂P/∂d|_T from Gibbs–Duhem (∂P_s/∂η_s|_T = kT n_s for each species, so ∂P/∂η|_T = kT(n₋ − n₊)
+  // = kT·d·N_A exactly): the sum of the species' terms cancels to nothing where pairs dominate
+  out.dPdD = kT * d * AVOGADRO * detaDd;
+  e.dPdD = out.dPdD - p.dPdD;
   out.dUdD = e.dUdD + p.dUdD;
   out.dSdD = e.dSdD + p.dSdD;
   out.dSdT = e.dSdT + p.dSdT;

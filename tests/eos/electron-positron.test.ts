@@ -247,3 +247,17 @@ test('bad input gives a status code and NaN, never an exception', () => {
     assert.ok(Number.isNaN(s.pressure));
   }
 });
+
+test('∂P/∂(ρYe) at fixed T is positive everywhere, pair-dominated plasma included (an ideal Fermi gas is mechanically stable; common practice)', () => {
+  // Where pairs dominate (low ρYe, T ≳ 1e9 K) the electron and positron terms of ∂P/∂η nearly
+  // cancel; the Gibbs–Duhem form kT·d·N_A·∂η/∂d must keep the small positive value.
+  const s = createPairGasState();
+  for (let ld = -12; ld <= 15; ld += 1) {
+    for (let lt = 3; lt <= 13; lt += 0.5) {
+      const d = 10 ** ld;
+      const T = 10 ** lt;
+      assert.equal(pairGas(d, T, s), 0, `solve at d=${d} T=${T}`);
+      assert.ok(s.dPdD > 0 && Number.isFinite(s.dPdD), `∂P/∂d = ${s.dPdD} at d=${d} T=${T} (n₊/n₋ = ${(s.positronDensity / s.electronDensity).toExponential(3)})`);
+    }
+  }
+});
