@@ -82,3 +82,28 @@ for (const method of METHODS) {
     console.log(`${''.padEnd(44)} ${(evals / M).toFixed(1).padStart(10)} evaluations/point`);
   }
 }
+
+{
+  // table method (Timmes & Swesty 2000 free-energy table): a table over a sub-range built here
+  // (the default grid comes from the builder), states drawn inside it; full state, all components
+  const { buildFreeEnergyTable } = await import('../eos/free-energy-table.js');
+  const grid = { logDensityYeMin: -2, logDensityYeMax: 8, logTemperatureMin: 4, logTemperatureMax: 9, pointsPerDecadeDensity: 20, pointsPerDecadeTemperature: 20 };
+  const t0 = performance.now();
+  const table = buildFreeEnergyTable(grid, { modelVersion: 'bench', constantsSet: 'CODATA 2018' }, { randomPoints: 0, cellCentres: false });
+  console.log(`table build, ${table.nD}×${table.nT} nodes, one core: ${((performance.now() - t0) / 1000).toFixed(1)} s`);
+  const rt = mulberry32(777);
+  const td = new Float64Array(N), tt = new Float64Array(N), ta = new Float64Array(N), tz = new Float64Array(N);
+  for (let i = 0; i < N; i++) {
+    ta[i] = 1 + 299 * rt();
+    tz[i] = 1 + (Math.min(ta[i], 120) - 1) * rt();
+    td[i] = 10 ** (-2 + 10 * rt()) * (ta[i] / tz[i]);
+    tt[i] = 10 ** (4 + 5 * rt());
+  }
+  let exactRate = 0, tableRate = 0;
+  const time = (f: () => void) => { f(); let best = Infinity; for (let k = 0; k < 3; k++) { const s = performance.now(); f(); best = Math.min(best, performance.now() - s); } return (N / best) * 1000; };
+  exactRate = time(() => void evaluate({ density: td, temperature: tt, abar: ta, zbar: tz }, { method: 'exact' }));
+  tableRate = time(() => void evaluate({ density: td, temperature: tt, abar: ta, zbar: tz }, { method: 'table', table }));
+  console.log(`${'evaluate (exact), same states'.padEnd(44)} ${exactRate.toFixed(0).padStart(10)} points/s`);
+  console.log(`${'evaluate (table)'.padEnd(44)} ${tableRate.toFixed(0).padStart(10)} points/s`);
+  console.log(`${'table/exact speed ratio'.padEnd(44)} ${(tableRate / exactRate).toFixed(1).padStart(10)}`);
+}

@@ -19,6 +19,11 @@ export {
   type Nuclide, type CompositionInput, type MeanComposition, type Column,
 } from './composition.js';
 export { GAMMA_MELT, MADELUNG_BCC } from './coulomb.js';
+export {
+  buildFreeEnergyTable, computeTableRows, assembleTable, prepareTable, tablePairGas, accuracySamplePoints, measureErrors,
+  summarizeAccuracy, gridSize, validateGrid, DEFAULT_TABLE_GRID, TABLE_COLUMNS, TABLE_FORMAT, TABLE_FORMAT_VERSION, ACCURACY_QUANTITIES,
+  type FreeEnergyTable, type TableGrid, type AccuracyReport, type AccuracyStats, type TableColumnName,
+} from './free-energy-table.js';
 export * as constants from './constants.js';
 
 /** Version of the physics model; changes whenever a published number could change. */

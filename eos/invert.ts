@@ -662,7 +662,8 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
   res.zbar.set(comp.zbar);
   res.ye.set(comp.ye);
   const relativistic = options.soundSpeed === 'relativistic';
-  const kernel = new PointKernel(inc);
+  const kernel = new PointKernel(inc, options.method === 'table' ? options.table! : null);
+  if (options.method === 'table') res.method = 'table';
   const ctx = new PointContext(kernel, mixtureOf(comp));
   const outer = new Solver1D(tol, maxEval);
   const inner = new Solver1D(tol / 16, maxEval);

@@ -32,6 +32,7 @@ import { createPairGasState, pairGas, type PairGasState, type PairSpecies } from
 import { createIonGasTerms, ionGas } from './ions.js';
 import { createPhotonGasTerms, photonGas } from './radiation.js';
 import { GAMMA_MELT, coulombCorrection, createCoulombTerms } from './coulomb.js';
+import { TABLE_OK, prepareTable, tablePairGas, type FreeEnergyTable } from './free-energy-table.js';
 
 // ---------------------------------------------------------------------------------------------
 // Domain, status codes, warnings
@@ -54,6 +55,8 @@ export const STATUS = Object.freeze({
   COMPOSITION_OUT_OF_DOMAIN: 5,
   MASS_FRACTIONS_INVALID: 6,
   PAIR_SOLVER_FAILED: 7,
+  /** method 'table': ρYe or T outside the table's grid (no extrapolation). */
+  TABLE_OUT_OF_RANGE: 8,
   // inversions (invert.ts)
   TARGET_INVALID: 10,
   NO_SOLUTION_BELOW_DOMAIN: 11,
@@ -73,6 +76,7 @@ export const STATUS_TEXT: Readonly<Record<number, string>> = Object.freeze({
   5: 'composition outside the domain 1 ≤ Abar ≤ 300, 1 ≤ Zbar ≤ min(Abar, 120)',
   6: 'mass fractions invalid (negative, not finite, or not summing to 1 within 1e-6)',
   7: 'the electron–positron charge-neutrality solve failed',
+  8: 'ρ·Ye or T outside the grid of the free-energy table (method "table"); use method "exact" or a table covering the point',
   10: 'the target value is not a finite number, or not allowed for this problem',
   11: 'no solution inside the domain: the target lies below what the domain reaches',
   12: 'no solution inside the domain: the target lies above what the domain reaches',
@@ -128,8 +132,10 @@ export const COMPONENT_NAMES: readonly ComponentName[] = ['electrons', 'positron
 export type StateInput = { density: Column; temperature: Column } & CompositionInput;
 
 export interface EvaluateOptions {
-  /** 'exact' (default). 'table' (free-energy table, Timmes & Swesty 2000) is not available yet: throws. */
+  /** 'exact' (default), or 'table' (free-energy table, Timmes & Swesty 2000; needs `table`). */
   method?: 'exact' | 'table';
+  /** The free-energy table for method 'table' (built by eos/free-energy-table.ts, loaded by the caller). */
+  table?: FreeEnergyTable;
   /** Components summed into the totals (default all five). */
   components?: readonly ComponentName[];
   /** 'newtonian' (default) c_s² = Γ1 P/ρ, or 'relativistic' c_s² = Γ1 P/(ρ + (ρe + P)/c²). */
@@ -161,7 +167,7 @@ export interface MaxwellResidualColumns {
 
 export interface EvaluateResult {
   n: number;
-  method: 'exact';
+  method: 'exact' | 'table';
   constantsSet: string;
   components: Record<ComponentName, ComponentColumns>;
   /** Which components were summed into the totals. */
@@ -336,19 +342,25 @@ export class PointKernel {
   private lastLogT = NaN;
   private lastEta = NaN;
 
-  constructor(readonly include: IncludeFlags) {}
+  constructor(readonly include: IncludeFlags, readonly table: FreeEnergyTable | null = null) {}
 
   /** Forget the warm start (call when jumping far away). */
   resetWarmStart(): void {
     this.lastLogD = NaN;
   }
 
-  /** Computes all terms at (rho, T); returns STATUS.OK or STATUS.PAIR_SOLVER_FAILED. */
+  /** Computes all terms at (rho, T); returns STATUS.OK, STATUS.PAIR_SOLVER_FAILED or STATUS.TABLE_OUT_OF_RANGE. */
   compute(rho: number, T: number, abar: number, zbar: number, mixture: MixtureData | null, row: number): number {
-    const inc = this.include;
     const d = (rho * zbar) / abar;
     // Warm start η from the previous point when it is close in (log d, log T): far away the
     // pair-gas solver's own initial guess is better than a stale η.
+    if (this.table !== null) {
+      if (tablePairGas(this.table, d, T, this.pair) !== TABLE_OK) return STATUS.TABLE_OUT_OF_RANGE;
+    } else if (this.exactPair(d, T) !== STATUS.OK) return STATUS.PAIR_SOLVER_FAILED;
+    return this.addTerms(rho, T, abar, zbar, mixture, row);
+  }
+
+  private exactPair(d: number, T: number): number {
     const logD = Math.log(d);
     const logT = Math.log(T);
     let guess: number | undefined;
@@ -362,6 +374,11 @@ export class PointKernel {
     this.lastLogD = logD;
     this.lastLogT = logT;
     this.lastEta = this.pair.eta;
+    return STATUS.OK;
+  }
+
+  private addTerms(rho: number, T: number, abar: number, zbar: number, mixture: MixtureData | null, row: number): number {
+    const inc = this.include;
 
     // The pair gas' totals are the accurate ones where the electrons are degenerate
     // (electron-positron.ts takes their T-derivatives from exact identities there), and positrons
@@ -465,9 +482,12 @@ export function compositionStatus(comp: ResolvedComposition, i: number): number 
 export function checkMethod(options: EvaluateOptions | undefined): void {
   const method = options?.method ?? 'exact';
   if (method === 'table') {
-    throw new Error('method "table" (the free-energy table of Timmes & Swesty 2000) is not available in this version; use method "exact"');
-  }
-  if (method !== 'exact') throw new Error(`unknown method "${String(method)}"; use "exact"`);
+    const t = options?.table;
+    if (!t || typeof t !== 'object' || !t.columns || !t.grid) {
+      throw new Error('method "table" is not available without a table: pass options.table (a free-energy table built by eos/free-energy-table.ts), or use method "exact"');
+    }
+    if (!t.packed) prepareTable(t);
+  } else if (method !== 'exact') throw new Error(`unknown method "${String(method)}"; use "exact" or "table"`);
   const cs = options?.soundSpeed ?? 'newtonian';
   if (cs !== 'newtonian' && cs !== 'relativistic') {
     throw new Error(`unknown soundSpeed "${String(cs)}"; use "newtonian" or "relativistic"`);
@@ -643,7 +663,8 @@ export function evaluate(input: StateInput, options: EvaluateOptions = {}): Eval
   res.zbar.set(comp.zbar);
   res.ye.set(comp.ye);
   const mixture = mixtureOf(comp);
-  const kernel = new PointKernel(inc);
+  const kernel = new PointKernel(inc, options.method === 'table' ? options.table! : null);
+  if (options.method === 'table') res.method = 'table';
   const relativistic = options.soundSpeed === 'relativistic';
   for (let i = 0; i < n; i++) {
     const rho = rhoCol[i];
@@ -664,6 +685,10 @@ export function evaluate(input: StateInput, options: EvaluateOptions = {}): Eval
       continue;
     }
     st = kernel.compute(rho, T, comp.abar[i], comp.zbar[i], mixture, i);
+    if (st === STATUS.TABLE_OUT_OF_RANGE) {
+      failPoint(res, i, st, `ρ·Ye = ${(rho * comp.ye[i]).toExponential(4)} g/cm³, T = ${T} K is outside the table grid (log10 ρYe ∈ [${kernel.table!.grid.logDensityYeMin}, ${kernel.table!.grid.logDensityYeMax}], log10 T ∈ [${kernel.table!.grid.logTemperatureMin}, ${kernel.table!.grid.logTemperatureMax}]); not extrapolated`);
+      continue;
+    }
     if (st !== STATUS.OK) {
       failPoint(res, i, st, `the electron–positron neutrality solve failed at density ${rho} g/cm³, temperature ${T} K, Ye ${comp.ye[i]}`);
       continue;
