@@ -90,7 +90,9 @@ export class Metrics {
     return (req, res, next) => {
       const end = this.httpDuration.startTimer();
       res.on('finish', () => {
-        const route = req.route?.path ? req.baseUrl + String(req.route.path) : req.baseUrl || 'unmatched';
+        // a feature may name the route for requests refused before its route matched (res.locals.route)
+        const named = res.locals['route'];
+        const route = typeof named === 'string' ? named : req.route?.path ? req.baseUrl + String(req.route.path) : req.baseUrl || 'unmatched';
         end({ method: req.method, route, status: String(res.statusCode) });
       });
       next();

@@ -1,0 +1,145 @@
+/**
+ * The worker-thread pool (piscina) that runs every EOS batch: CPU work never runs on the event
+ * loop, so /healthz and small requests stay responsive while a large batch computes.
+ *
+ * A batch is cut into chunks (EOS_CHUNK_POINTS points); each request keeps at most one chunk per
+ * thread in flight, so concurrent requests interleave instead of queueing behind a large one. Each
+ * chunk has a timeout (EOS_TASK_TIMEOUT_MS, counted from when the chunk is handed to the pool, so a
+ * wait for a free thread counts too and an overloaded pool sheds work); a timeout, a failed chunk or
+ * the client going away aborts the request's other chunks (a running chunk by stopping its thread,
+ * which piscina replaces). The pool refuses new work (503) when the points waiting would
+ * pass EOS_MAX_PENDING_POINTS, so memory stays bounded under overload.
+ *
+ * The worker file is resolved next to this module with this module's own extension: `.ts` when
+ * running under tsx (workers inherit `--import tsx` through execArgv), `.js` when compiled.
+ */
+import os from 'node:os';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { Piscina } from 'piscina';
+import { ProblemError } from '../shared/problem.js';
+import type { PoolStats } from '../metrics.js';
+import type { EosTask, EosTaskFailure, EosTaskResult } from './tasks.js';
+
+export interface EosPoolOptions {
+  minThreads: number;
+  /** 0 = one per available core */
+  maxThreads: number;
+  taskTimeoutMs: number;
+  maxPendingPoints: number;
+}
+
+const ownFile = fileURLToPath(import.meta.url);
+const workerFile = new URL('./worker' + path.extname(ownFile), import.meta.url);
+
+export class EosPool implements PoolStats {
+  private readonly piscina: Piscina<EosTask, EosTaskResult | EosTaskFailure>;
+  private pendingPoints = 0;
+  private closed = false;
+  readonly maxThreads: number;
+
+  constructor(private readonly options: EosPoolOptions) {
+    const maxThreads = options.maxThreads > 0 ? options.maxThreads : Math.max(1, os.availableParallelism());
+    const minThreads = Math.min(Math.max(0, options.minThreads), maxThreads);
+    this.maxThreads = maxThreads;
+    this.piscina = new Piscina({
+      filename: workerFile.href,
+      name: 'default',
+      minThreads,
+      maxThreads,
+      // threads beyond minThreads stay for a while once started: starting one costs a few hundred
+      // milliseconds (more under tsx), which a request would otherwise wait for again and again
+      idleTimeout: 10 * 60_000,
+      // bounded by pendingPoints below, in points rather than tasks
+      maxQueue: Number.MAX_SAFE_INTEGER,
+      concurrentTasksPerWorker: 1,
+    });
+  }
+
+  /**
+   * Runs the chunks of one request (built lazily, so only a few chunks' inputs exist at a time)
+   * and returns their results in order. Throws a ProblemError for timeouts, overload and closed pool.
+   */
+  async runChunks(points: number, chunks: Array<() => { task: EosTask; transfer: ArrayBuffer[] }>, signal?: AbortSignal): Promise<Array<EosTaskResult | EosTaskFailure>> {
+    if (this.closed) throw new ProblemError('service-unavailable', 503, 'Shutting down', 'This gateway instance is shutting down; retry the request.', { retryAfterSeconds: 1 });
+    if (this.pendingPoints > 0 && this.pendingPoints + points > this.options.maxPendingPoints) {
+      throw new ProblemError(
+        'server-busy',
+        503,
+        'Evaluation capacity busy',
+        `${this.pendingPoints} points are waiting for the worker threads; this batch of ${points} would pass the limit of ${this.options.maxPendingPoints}. Retry in a few seconds, or send smaller batches.`,
+        { retryAfterSeconds: 2 },
+      );
+    }
+    this.pendingPoints += points;
+    const abort = new AbortController();
+    const onAbort = () => abort.abort(signal?.reason);
+    if (signal?.aborted) abort.abort(signal.reason);
+    else signal?.addEventListener('abort', onAbort, { once: true });
+    const results: Array<EosTaskResult | EosTaskFailure> = new Array(chunks.length);
+    let next = 0;
+    let failed: unknown;
+    let timedOut = false;
+    const lane = async () => {
+      while (next < chunks.length && !abort.signal.aborted) {
+        const index = next++;
+        const { task, transfer } = chunks[index]!();
+        // one plain timer per chunk (AbortSignal.timeout would keep a timer alive for the whole
+        // limit after the chunk is done; AbortSignal.any is slow on Node 20)
+        const timer = setTimeout(() => {
+          timedOut = true;
+          abort.abort(new Error('chunk timed out'));
+        }, this.options.taskTimeoutMs);
+        try {
+          const result = await this.piscina.run(task, { transferList: transfer, signal: abort.signal });
+          results[index] = result;
+          if ('failure' in result) abort.abort(result);
+        } catch (error) {
+          failed ??= error;
+          abort.abort(error);
+        } finally {
+          clearTimeout(timer);
+        }
+      }
+    };
+    try {
+      await Promise.all(Array.from({ length: Math.min(this.maxThreads, chunks.length) }, lane));
+    } finally {
+      this.pendingPoints -= points;
+      signal?.removeEventListener('abort', onAbort);
+    }
+    const failure = results.find((r) => r && 'failure' in r);
+    if (failure) return [failure];
+    if (signal?.aborted && !timedOut) {
+      throw new ProblemError('client-closed-request', 499, 'Request abandoned', 'The client went away before the batch finished; nothing was billed.');
+    }
+    if (timedOut) {
+      throw new ProblemError(
+        'evaluation-timeout',
+        504,
+        'Evaluation took too long',
+        `A chunk of this batch did not finish within ${this.options.taskTimeoutMs} ms, so the request was stopped and nothing was billed. Split the batch into smaller requests.`,
+      );
+    }
+    if (this.closed) throw new ProblemError('service-unavailable', 503, 'Shutting down', 'This gateway instance shut down while the batch was computing; nothing was billed. Retry the request.');
+    if (failed !== undefined) throw failed;
+    return results;
+  }
+
+  queueSize(): number {
+    return this.piscina.queueSize;
+  }
+
+  utilization(): number {
+    return this.piscina.utilization;
+  }
+
+  threads(): number {
+    return this.piscina.threads.length;
+  }
+
+  async close(): Promise<void> {
+    this.closed = true;
+    await this.piscina.destroy();
+  }
+}
