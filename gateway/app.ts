@@ -12,6 +12,17 @@ import { healthRoutes } from './health/routes.js';
 import { dashboardRoutes } from './dashboard-static.js';
 import { notFound, problemHandler } from './shared/problem.js';
 import { createServices, type Services } from './services.js';
+import { docsRoutes } from './docs/routes.js';
+import { EosPool } from './eos/pool.js';
+import { EosService } from './eos/service.js';
+import { eosRoutes } from './eos/routes.js';
+import { eosResolvers } from './eos/resolvers.js';
+import { graphqlRoutes } from './graphql/server.js';
+import { authRoutes } from './auth/routes.js';
+import { organisationRoutes } from './organisations/routes.js';
+import { accountResolvers } from './organisations/resolvers.js';
+import { keyAdminRoutes } from './keys/routes.js';
+import { keyResolvers } from './keys/resolvers.js';
 
 export interface AppDeps {
   config: Config;
@@ -57,6 +68,26 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   app.use(healthRoutes(db));
 
   // ── API features (each registers its REST router and GraphQL pieces here) ──
+  app.use(docsRoutes());
+
+  // EOS: batches run in a worker-thread pool; REST and GraphQL share one service.
+  const eosPool = new EosPool({
+    minThreads: config.EOS_POOL_MIN_THREADS,
+    maxThreads: config.EOS_POOL_MAX_THREADS,
+    taskTimeoutMs: config.EOS_TASK_TIMEOUT_MS,
+    maxPendingPoints: config.EOS_MAX_PENDING_POINTS,
+  });
+  services.onClose(() => eosPool.close());
+  services.metrics.attachPool(eosPool);
+  const eosService = new EosService(eosPool, services.meter, config.EOS_CHUNK_POINTS);
+  app.use('/v1/eos', eosRoutes(services, eosService));
+
+  // Accounts: sign-up/in, sessions, organisations, members, invitations, audit log, key management
+  app.use(authRoutes(services));
+  app.use(organisationRoutes(services));
+  app.use(keyAdminRoutes(services));
+
+  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services)]));
 
   app.use(dashboardRoutes(config.DASHBOARD_DIR));
   app.use(notFound);

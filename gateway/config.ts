@@ -21,7 +21,63 @@ const schema = z.object({
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
   DASHBOARD_DIR: z.string().default(path.join(repoRoot, 'dist', 'dashboard', 'browser')),
   SHUTDOWN_TIMEOUT_MS: z.coerce.number().int().min(0).default(10_000),
-});
+  // EOS worker-thread pool (gateway/eos/pool.ts). 0 threads = derive from the machine's cores.
+  EOS_POOL_MIN_THREADS: z.coerce.number().int().min(0).max(256).default(1),
+  EOS_POOL_MAX_THREADS: z.coerce.number().int().min(0).max(256).default(0),
+  /** Longest one chunk of a batch may compute before the request fails with a 504 problem. */
+  EOS_TASK_TIMEOUT_MS: z.coerce.number().int().min(100).default(60_000),
+  /** Points per worker task: a batch is split into chunks of this size that run in parallel. */
+  EOS_CHUNK_POINTS: z.coerce.number().int().min(1).max(1_000_000).default(16_384),
+  /** Points admitted to the pool but not finished, beyond which new batches get a 503 (memory bound). */
+  EOS_MAX_PENDING_POINTS: z.coerce.number().int().min(1).default(20_000_000),
+
+  // ── Accounts: sessions, e-mail, sign-in limits (gateway/auth, gateway/mail; contract in gateway/auth/README.md) ──
+  /**
+   * Where people reach the dashboard: the base of every link in e-mails; https or loopback decides
+   * the Secure cookie flag. Unset: http://HOST:PORT (127.0.0.1 for a wildcard HOST).
+   */
+  PUBLIC_URL: z.url({ error: 'PUBLIC_URL must be an absolute URL such as https://fermiwell.example' }).optional(),
+  /**
+   * HS256 key of the session access tokens. Never defaulted in code: `npm start` and `npm test`
+   * generate one per data folder (scripts/lib/dev-secret.ts); production sets its own.
+   */
+  JWT_SECRET: z
+    .string({ error: 'JWT_SECRET is required (at least 32 random characters); npm start and npm test generate one per data folder' })
+    .min(32, 'JWT_SECRET must be at least 32 characters of random text'),
+  ACCESS_TOKEN_TTL_SECONDS: z.coerce.number().int().min(30).max(3_600).default(900),
+  /** A refresh token not used for this long expires (each refresh issues a new one). */
+  REFRESH_TOKEN_TTL_DAYS: z.coerce.number().int().min(1).max(90).default(14),
+  /** A session ends this long after sign-in, however often it was refreshed. */
+  SESSION_MAX_DAYS: z.coerce.number().int().min(1).max(365).default(30),
+  /** Failed sign-ins allowed per e-mail address and per client IP within SIGN_IN_WINDOW_MINUTES. */
+  SIGN_IN_FAILURES_PER_ACCOUNT: z.coerce.number().int().min(1).default(5),
+  SIGN_IN_FAILURES_PER_IP: z.coerce.number().int().min(1).default(30),
+  SIGN_IN_WINDOW_MINUTES: z.coerce.number().int().min(1).default(15),
+  /** Password-reset and verification e-mails per address and per IP per hour; sign-ups per IP per hour. */
+  EMAIL_REQUESTS_PER_ADDRESS: z.coerce.number().int().min(1).default(3),
+  EMAIL_REQUESTS_PER_IP: z.coerce.number().int().min(1).default(20),
+  SIGN_UPS_PER_IP: z.coerce.number().int().min(1).default(20),
+  /** How long an API key's previous secret keeps working after a rotation. */
+  KEY_ROTATION_GRACE_HOURS: z.coerce.number().min(0).max(24 * 30).default(24),
+  INVITATION_TTL_DAYS: z.coerce.number().int().min(1).max(90).default(7),
+  /** SMTP relay for outgoing mail; outside production it defaults to a local catcher's usual port. */
+  SMTP_HOST: z.string().min(1).optional(),
+  SMTP_PORT: port.default(1025),
+  /** true: TLS from the first byte (port 465); false: plain, upgraded with STARTTLS when offered. */
+  SMTP_SECURE: z.stringbool().default(false),
+  SMTP_USER: z.string().min(1).optional(),
+  SMTP_PASSWORD: z.string().min(1).optional(),
+  MAIL_FROM: z.string().min(3).default('Fermiwell <no-reply@fermiwell.example>'),
+  /** The local catcher's web inbox (set by npm start / npm test); shown, never used by the product. */
+  MAIL_INBOX_URL: z.url().optional(),
+}).superRefine((config, ctx) => {
+  if (config.NODE_ENV === 'production' && !config.SMTP_HOST) {
+    ctx.addIssue({ code: 'custom', path: ['SMTP_HOST'], message: 'SMTP_HOST is required in production (the relay for verification, reset and invitation mail)' });
+  }
+}).transform((config) => ({
+  ...config,
+  PUBLIC_URL: config.PUBLIC_URL ?? `http://${config.HOST === '0.0.0.0' || config.HOST === '::' ? '127.0.0.1' : config.HOST}:${config.PORT}`,
+}));
 
 export type Config = z.infer<typeof schema>;
 

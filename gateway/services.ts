@@ -9,6 +9,13 @@ import { KeyService } from './keys/service.js';
 import { Meter } from './usage/meter.js';
 import { keyRateLimit } from './usage/rate-limit.js';
 import { Metrics } from './metrics.js';
+import { Mailer } from './mail/mailer.js';
+import { AuditLog } from './audit/service.js';
+import { AccessService } from './organisations/access.js';
+import { OrganisationService } from './organisations/service.js';
+import { AuthService } from './auth/service.js';
+import { authRateLimits, type AuthRateLimits } from './auth/rate-limits.js';
+import { KeyManagement } from './keys/management.js';
 
 export interface Services {
   config: Config;
@@ -18,6 +25,14 @@ export interface Services {
   meter: Meter;
   rateLimit: ReturnType<typeof keyRateLimit>;
   metrics: Metrics;
+  // accounts (issue 6): mail, audit log, the role matrix's enforcement, sessions, organisations, key management
+  mailer: Mailer;
+  audit: AuditLog;
+  access: AccessService;
+  auth: AuthService;
+  authLimits: AuthRateLimits;
+  organisations: OrganisationService;
+  keyAdmin: KeyManagement;
   /** Extra closers registered by features (e.g. the EOS worker pool). */
   onClose(fn: () => Promise<void>): void;
   close(): Promise<void>;
@@ -30,6 +45,13 @@ export function createServices(config: Config, db: Knex, logger: Logger): Servic
   metrics = new Metrics(db, () => meter.flushLagSeconds());
   const rateLimit = keyRateLimit(db);
   const closers: Array<() => Promise<void>> = [];
+  const mailer = new Mailer(config, logger.child({ component: 'mail' }));
+  const audit = new AuditLog(db, logger);
+  const access = new AccessService(db);
+  const auth = new AuthService(db, config, mailer, audit, logger.child({ component: 'auth' }));
+  const authLimits = authRateLimits(db, config);
+  const organisations = new OrganisationService(db, config, access, audit, mailer, keys);
+  const keyAdmin = new KeyManagement(keys, access, audit, config);
   return {
     config,
     db,
@@ -38,12 +60,21 @@ export function createServices(config: Config, db: Knex, logger: Logger): Servic
     meter,
     rateLimit,
     metrics,
+    mailer,
+    audit,
+    access,
+    auth,
+    authLimits,
+    organisations,
+    keyAdmin,
     onClose: (fn) => closers.push(fn),
     async close() {
       for (const fn of closers.reverse()) await fn().catch((error) => logger.error({ err: error }, 'close failed'));
       await meter.close();
       await keys.close();
       await rateLimit.store.shutdown();
+      for (const store of authLimits.stores) await store.shutdown();
+      await mailer.close();
     },
   };
 }

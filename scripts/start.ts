@@ -10,6 +10,7 @@ import { ensureCluster, ensureDatabase, startCluster, stopCluster, type Cluster 
 import { prepareDatabase } from './lib/database.js';
 import { startLocalServices } from './lib/local-services.js';
 import { ensureDashboardBuilt } from './lib/dashboard-build.js';
+import { devJwtSecret } from './lib/dev-secret.js';
 import { ConfigError, loadConfig } from '../gateway/config.js';
 import { startGateway, type RunningGateway } from '../gateway/server.js';
 import { DEMO_KEYS, DEMO_USERS, demoToken } from '../seeds/demo-accounts.js';
@@ -64,7 +65,7 @@ async function main() {
 
   let config;
   try {
-    config = loadConfig({ ...process.env, ...services.env, DATABASE_URL: databaseUrl });
+    config = loadConfig({ ...process.env, ...services.env, DATABASE_URL: databaseUrl, JWT_SECRET: devJwtSecret(dataDir) });
   } catch (error) {
     if (error instanceof ConfigError) {
       console.error(error.message);
@@ -81,7 +82,7 @@ async function main() {
     Dashboard      ${shownUrl}/
     Health         ${shownUrl}/healthz   ${shownUrl}/readyz
     PostgreSQL     ${process.env['DATABASE_URL'] ? '(DATABASE_URL)' : `127.0.0.1:${pgPort}, data in ${path.join(dataDir, 'pg')}`}
-
+${config.MAIL_INBOX_URL ? `    Mail inbox     ${config.MAIL_INBOX_URL}   (every mail the gateway sends lands here)\n` : ''}
   Demo sign-ins (invented demo data, local use only):
 ${DEMO_USERS.map((u) => `    ${(u.role ?? u.platformRole ?? '').padEnd(11)} ${u.email.padEnd(38)} ${u.password}`).join('\n')}
 

@@ -6,6 +6,12 @@
  * The cache holds a key's row and its organisation's plan for CACHE_TTL_MS, so revocation, expiry
  * and plan changes reach every gateway instance within that time; this instance also drops its
  * entry at once on revoke.
+ *
+ * Rotation keeps the key's id and gives it a new secret; the previous secret keeps working for the
+ * grace period (KEY_ROTATION_GRACE_HOURS, 24 h by default) so running jobs can switch without
+ * failing, then stops. A second rotation within the grace period ends the oldest secret at once
+ * (only the current and the one before it are kept). A secret that does not match a cached row
+ * makes one fresh read, so a rotation done on another instance is seen at once.
  */
 import type { Knex } from 'knex';
 import { ProblemError } from '../shared/problem.js';
@@ -56,6 +62,22 @@ export class KeyService {
     return { id, token: formatToken(id, secret), row };
   }
 
+  /** New secret for a live key; the old one works until now + graceMs. undefined if the key is revoked or missing. */
+  async rotate(id: string, graceMs: number): Promise<CreatedKey | undefined> {
+    const secret = newSecret();
+    const row = await store.rotateKey(this.db, id, hashSecret(secret), new Date(Date.now() + graceMs));
+    this.cache.delete(id);
+    return row ? { id, token: formatToken(id, secret), row } : undefined;
+  }
+
+  listWithCreators(organisationId: string) {
+    return store.listKeysWithCreators(this.db, organisationId);
+  }
+
+  findWithCreator(organisationId: string, id: string) {
+    return store.findKeyWithCreator(this.db, organisationId, id);
+  }
+
   async revoke(id: string): Promise<boolean> {
     const changed = await store.revokeKey(this.db, id);
     this.cache.delete(id);
@@ -76,9 +98,23 @@ export class KeyService {
     if (!parsed) {
       throw new ProblemError('invalid-api-key', 401, 'Invalid API key', 'The Authorization header must be "Bearer fwk_<8-character id>_<32-character secret>".');
     }
-    const row = await this.lookup(parsed.id);
-    if (!row || !secretMatches(parsed.secret, row.secret_hash)) {
+    let row = await this.lookup(parsed.id);
+    let which = row ? secretMatch(parsed.secret, row) : 'none';
+    if (row && which === 'none') {
+      // perhaps rotated on another instance since this row was cached
+      row = await this.lookup(parsed.id, true);
+      which = row ? secretMatch(parsed.secret, row) : 'none';
+    }
+    if (!row || which === 'none') {
       throw new ProblemError('invalid-api-key', 401, 'Invalid API key', 'This key is not valid. Check that it was copied whole, or create a new one.');
+    }
+    if (which === 'previous-expired' && !row.revoked_at) {
+      throw new ProblemError(
+        'rotated-api-key',
+        401,
+        'API key secret replaced',
+        `Key ${row.id} was rotated and this secret stopped working at ${new Date(row.previous_secret_expires_at!).toISOString()}. Use the new secret shown at rotation, or rotate again.`,
+      );
     }
     if (row.revoked_at) {
       throw new ProblemError('revoked-api-key', 401, 'API key revoked', `Key ${row.id} was revoked. Use another key or create a new one.`);
@@ -95,10 +131,10 @@ export class KeyService {
     };
   }
 
-  private async lookup(id: string): Promise<store.ApiKeyWithPlan | undefined> {
+  private async lookup(id: string, fresh = false): Promise<store.ApiKeyWithPlan | undefined> {
     const now = Date.now();
     const hit = this.cache.get(id);
-    if (hit && now - hit.at < CACHE_TTL_MS) return hit.row;
+    if (!fresh && hit && now - hit.at < CACHE_TTL_MS) return hit.row;
     const row = await store.findKeyWithPlan(this.db, id);
     if (this.cache.size > 10_000) this.cache.clear();
     this.cache.set(id, { at: now, row });
@@ -121,6 +157,16 @@ export class KeyService {
     clearInterval(this.timer);
     await this.flushLastUsed().catch(() => undefined);
   }
+}
+
+/** Which of the key's secrets this is: the current one, the previous one within or past its grace period, or none. */
+function secretMatch(secret: string, row: store.ApiKeyRow): 'current' | 'previous' | 'previous-expired' | 'none' {
+  if (secretMatches(secret, row.secret_hash)) return 'current';
+  if (row.previous_secret_hash && secretMatches(secret, row.previous_secret_hash)) {
+    const until = row.previous_secret_expires_at ? new Date(row.previous_secret_expires_at).getTime() : 0;
+    return until > Date.now() ? 'previous' : 'previous-expired';
+  }
+  return 'none';
 }
 
 export { hashSecret };

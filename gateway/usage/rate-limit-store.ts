@@ -101,7 +101,11 @@ export class PostgresRateLimitStore implements Store {
       if (total !== undefined) w.others = Math.max(0, total - w.synced);
     }
     if (Math.random() < 0.05) {
-      await this.db('rate_limit_windows').where('window_start_ms', '<', now - 60_000).delete();
+      // only this store's rows, and only windows well past their end (other stores use longer windows)
+      await this.db('rate_limit_windows')
+        .where('key', 'like', `${this.prefix}%`)
+        .andWhere('window_start_ms', '<', now - Math.max(60_000, 2 * this.windowMs))
+        .delete();
     }
   }
 

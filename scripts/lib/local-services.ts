@@ -2,14 +2,16 @@
  * The local stand-ins for outside services, started on loopback by `npm start` and `npm test`:
  * the SMTP catcher (accounts issue) and the Stripe-compatible payments fake (billing issue).
  * Each returns the environment the gateway needs to reach it and a stop function.
- * None exist yet; their issues add them to LOCAL_SERVICES.
+ * Their issues add them to LOCAL_SERVICES.
  */
+import { mailCatcher } from './mail-catcher.js';
+
 export interface LocalService {
   name: string;
   start(options: { dataDir: string; test: boolean }): Promise<{ env: Record<string, string>; url?: string; stop(): Promise<void> }>;
 }
 
-export const LOCAL_SERVICES: LocalService[] = [];
+export const LOCAL_SERVICES: LocalService[] = [mailCatcher];
 
 export async function startLocalServices(options: { dataDir: string; test: boolean }, log: (line: string) => void) {
   const env: Record<string, string> = {};

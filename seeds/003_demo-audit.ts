@@ -1,0 +1,66 @@
+/**
+ * Seeds the demo group's audit log and one pending invitation (DESIGN.md §8; all invented).
+ * Idempotent: does nothing once the demo organisation has audit entries.
+ */
+import type { Knex } from 'knex';
+import { createHash, randomBytes } from 'node:crypto';
+import { DEMO_KEYS, DEMO_ORGANISATION } from './demo-accounts.js';
+
+/** The invented person invited to the demo group; nobody can accept (the token is thrown away). */
+export const DEMO_INVITATION = { email: 'elowen.hartigan@pellworth.example', role: 'developer' } as const;
+
+export async function seed(knex: Knex) {
+  const org = await knex('organisations').where({ slug: DEMO_ORGANISATION.slug }).first();
+  if (!org) return;
+  if (await knex('audit_log').where({ organisation_id: org.id }).first('id')) return;
+
+  const user = async (email: string) => knex('users').whereRaw('lower(email) = lower(?)', [email]).first();
+  const owner = await user('imogen.thursby@harrowgate.example');
+  const maintainer = await user('tobias.renwick@harrowgate.example');
+  const developer = await user('mira.castellane@harrowgate.example');
+  const viewer = await user('jonah.peverell@harrowgate.example');
+  if (!owner || !maintainer || !developer || !viewer) return;
+
+  const ago = (days: number, hours = 0) => knex.raw(`now() - (? * interval '1 day') - (? * interval '1 hour')`, [days, hours]);
+  const entry = (at: Knex.Raw, actor: { id: string; email: string } | null, action: string, target: { type: string; id: string } | null, details: object, organisation = true) => ({
+    organisation_id: organisation ? org.id : null,
+    actor_user_id: actor?.id ?? null,
+    actor_email: actor?.email ?? null,
+    action,
+    target_type: target?.type ?? null,
+    target_id: target?.id ?? null,
+    details: JSON.stringify(details),
+    ip: '192.0.2.14', // documentation address range (RFC 5737)
+    created_at: at,
+  });
+  const asUser = (u: { id: string }) => ({ type: 'user', id: u.id });
+
+  await knex('audit_log').insert([
+    entry(ago(61), owner, 'organisation.created', { type: 'organisation', id: org.id }, { name: org.name }),
+    entry(ago(61, -1), owner, 'invitation.created', null, { email: maintainer.email, role: 'maintainer' }),
+    entry(ago(60, 20), maintainer, 'member.joined', asUser(maintainer), { role: 'maintainer' }),
+    entry(ago(60, 18), maintainer, 'key.created', { type: 'api_key', id: DEMO_KEYS[0].id }, { name: DEMO_KEYS[0].name, scopes: DEMO_KEYS[0].scopes }),
+    entry(ago(60, 2), developer, 'member.joined', asUser(developer), { role: 'developer' }),
+    entry(ago(60, 1), developer, 'key.created', { type: 'api_key', id: DEMO_KEYS[1].id }, { name: DEMO_KEYS[1].name, scopes: DEMO_KEYS[1].scopes }),
+    entry(ago(45), viewer, 'member.joined', asUser(viewer), { role: 'viewer' }),
+    entry(ago(30, 5), owner, 'member.role-changed', asUser(viewer), { from: 'developer', to: 'viewer' }),
+    entry(ago(12, 3), null, 'auth.sign-in-failed', asUser(developer), { reason: 'wrong-password' }, false),
+    entry(ago(12, 3), developer, 'auth.sign-in', asUser(developer), {}, false),
+    entry(ago(3, 6), maintainer, 'invitation.created', null, { email: DEMO_INVITATION.email, role: DEMO_INVITATION.role }),
+    entry(ago(1, 2), owner, 'auth.sign-in', asUser(owner), {}, false),
+  ]);
+
+  const pending = await knex('invitations').where({ organisation_id: org.id }).whereRaw('lower(email) = lower(?)', [DEMO_INVITATION.email]).first('id');
+  if (!pending) {
+    await knex('invitations').insert({
+      organisation_id: org.id,
+      email: DEMO_INVITATION.email,
+      role: DEMO_INVITATION.role,
+      // a random token nobody keeps: the demo shows a pending invitation, nobody can accept it
+      token_hash: createHash('sha256').update(randomBytes(32).toString('base64url')).digest('hex'),
+      invited_by: maintainer.id,
+      created_at: ago(3, 6),
+      expires_at: knex.raw("now() + interval '4 days'"),
+    });
+  }
+}
