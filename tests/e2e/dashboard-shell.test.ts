@@ -1,22 +1,27 @@
 /**
- * The served dashboard in headless Debian Chromium: the gateway (real, against the test database)
- * serves the built app; the navigation lists every page, the self-hosted fonts load, and every
- * icon is drawn as a glyph (a ligature left as text would overflow the 24 px icon box).
+ * The served dashboard in headless Debian Chromium: the gateway (real, against the test database
+ * with the demo seed) serves the built app; signed out it shows the sign-in page, signed in as the
+ * demo owner the navigation lists every page an owner sees (Operator is for operators only), the
+ * self-hosted fonts load, and every icon is drawn as a glyph (a ligature left as text would
+ * overflow the 24 px icon box).
  */
 import { after, before, test } from 'node:test';
 import assert from 'node:assert/strict';
 import type { Browser, Page } from 'playwright-core';
 import { launchBrowser, artifactPath } from '../support/browser.js';
 import { startTestGateway } from '../support/gateway.js';
+import { DEMO_USERS } from '../../seeds/demo-accounts.js';
 import type { RunningGateway } from '../../gateway/server.js';
 
-const PAGES = ['Overview', 'Keys', 'Probe', 'Usage', 'Jobs', 'Mixtures', 'Team', 'Plan & billing', 'Docs', 'Operator'];
+const PAGES = ['Overview', 'Keys', 'Probe', 'Usage', 'Jobs', 'Mixtures', 'Team', 'Plan & billing', 'Docs'];
+const owner = DEMO_USERS.find((u) => u.role === 'owner')!;
 
 let gateway: RunningGateway;
 let browser: Browser;
 let page: Page;
 const outsideRequests: string[] = [];
 const consoleErrors: string[] = [];
+const unauthorized: string[] = [];
 
 before(async () => {
   gateway = await startTestGateway();
@@ -26,7 +31,11 @@ before(async () => {
     if (!r.url().startsWith(gateway.url) && !r.url().startsWith('data:')) outsideRequests.push(r.url());
   });
   page.on('console', (m) => {
-    if (m.type() === 'error') consoleErrors.push(m.text());
+    // Chromium logs every 401 as a console error; which 401s happened is checked on its own below
+    if (m.type() === 'error' && !/status of 401/.test(m.text())) consoleErrors.push(m.text());
+  });
+  page.on('response', (r) => {
+    if (r.status() === 401) unauthorized.push(new URL(r.url()).pathname);
   });
 });
 
@@ -37,6 +46,10 @@ after(async () => {
 
 test('the dashboard shell shows the navigation with fonts and icons rendered', async () => {
   await page.goto(`${gateway.url}/`, { waitUntil: 'networkidle' });
+  await page.waitForURL(/\/sign-in/);
+  await page.getByLabel('E-mail').fill(owner.email);
+  await page.getByLabel('Password').fill(owner.password);
+  await page.getByRole('button', { name: 'Sign in' }).click();
   await page.waitForSelector('mat-sidenav a.fw-nav-entry');
   const labels = (await page.locator('mat-sidenav a.fw-nav-entry').allInnerTexts()).map((t) => t.split('\n').pop()!.trim());
   assert.deepEqual(labels, PAGES);
@@ -62,6 +75,8 @@ test('the dashboard shell shows the navigation with fonts and icons rendered', a
   await page.screenshot({ path: artifactPath('shell-overview.png') });
   assert.deepEqual(outsideRequests, [], 'nothing is fetched from outside the gateway');
   assert.deepEqual(consoleErrors, [], 'no console errors (e.g. CSP violations)');
+  // signed out, restoring the session from a refresh cookie that is not there is the only refusal
+  assert.deepEqual([...new Set(unauthorized)], ['/v1/auth/session/refresh'], 'the only 401 is the signed-out session restore');
 });
 
 test('navigating and deep links work through the gateway', async () => {

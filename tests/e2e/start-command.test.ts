@@ -75,7 +75,11 @@ test('npm start: serves readiness and the dashboard, stops cleanly, and reuses i
     FW_PG_PORT: String(await freePort()),
     PORT: String(await freePort()),
     LOG_LEVEL: 'warn',
+    // as a person runs it: not the test environment npm test sets for the other tests
+    NODE_ENV: 'development',
+    JWT_SECRET: '',
   };
+  delete env['JWT_SECRET'];
   delete env['DATABASE_URL'];
 
   // first start: a new cluster

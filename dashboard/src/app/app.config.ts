@@ -1,12 +1,14 @@
+import { provideHttpClient, withInterceptors } from '@angular/common/http';
 import {
   ApplicationConfig,
   provideBrowserGlobalErrorListeners,
   provideZonelessChangeDetection,
 } from '@angular/core';
 import { MAT_ICON_DEFAULT_OPTIONS, MatIconDefaultOptions } from '@angular/material/icon';
-import { provideRouter } from '@angular/router';
+import { provideRouter, withComponentInputBinding } from '@angular/router';
 
 import { routes } from './app.routes';
+import { sessionInterceptor } from './core/session-interceptor';
 
 /** Icons come from the self-hosted Material Symbols Outlined font declared in styles.scss. */
 const iconOptions: MatIconDefaultOptions = { fontSet: 'material-symbols-outlined' };
@@ -16,7 +18,9 @@ export const appConfig: ApplicationConfig = {
     provideBrowserGlobalErrorListeners(),
     // No zone.js: change detection is driven by signals and template events.
     provideZonelessChangeDetection(),
-    provideRouter(routes),
+    // The session is restored by the route guards (one refresh from the cookie on first navigation).
+    provideRouter(routes, withComponentInputBinding()),
+    provideHttpClient(withInterceptors([sessionInterceptor])),
     { provide: MAT_ICON_DEFAULT_OPTIONS, useValue: iconOptions },
   ],
 };

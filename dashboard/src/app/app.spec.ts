@@ -1,17 +1,30 @@
+import { provideHttpClient } from '@angular/common/http';
+import { provideHttpClientTesting } from '@angular/common/http/testing';
 import { TestBed } from '@angular/core/testing';
 import { Router } from '@angular/router';
 
 import { App } from './app';
 import { appConfig } from './app.config';
+import { AuthSession } from './core/auth-session';
+import { TEST_USER, fakeSession } from './shared/testing';
 
 describe('App shell', () => {
-  beforeEach(async () => {
+  let session: ReturnType<typeof fakeSession>;
+
+  /** The real application providers (routes, guards, zoneless, icon font set) with a stand-in session. */
+  async function setUp(options: { operator?: boolean; signedIn?: boolean } = {}) {
+    session = fakeSession({ ...TEST_USER, platformRole: options.operator === false ? null : 'operator' });
+    if (options.signedIn === false) session.fake.user.set(null);
     await TestBed.configureTestingModule({
       imports: [App],
-      // The real application providers: routes, zoneless change detection, icon font set.
-      providers: appConfig.providers,
+      providers: [
+        ...appConfig.providers,
+        provideHttpClient(),
+        provideHttpClientTesting(),
+        { provide: AuthSession, useValue: session.fake },
+      ],
     }).compileComponents();
-  });
+  }
 
   async function renderAt(url: string) {
     const fixture = TestBed.createComponent(App);
@@ -21,11 +34,13 @@ describe('App shell', () => {
   }
 
   it('shows the Fermiwell wordmark in the toolbar', async () => {
+    await setUp();
     const shell = await renderAt('/');
     expect(shell.querySelector('mat-toolbar .fw-wordmark')?.textContent?.trim()).toBe('Fermiwell');
   });
 
-  it('lists the ten pages of the dashboard in order, Operator set apart', async () => {
+  it('lists the ten pages of the dashboard in order for an operator, Operator set apart', async () => {
+    await setUp();
     const shell = await renderAt('/');
     expect(shell.querySelectorAll('a.fw-nav-entry')).toHaveLength(10);
     const titles = Array.from(shell.querySelectorAll('a.fw-nav-entry [matListItemTitle]')).map(
@@ -48,7 +63,31 @@ describe('App shell', () => {
     expect(operatorList?.querySelectorAll('a.fw-nav-entry')).toHaveLength(1);
   });
 
+  it('hides the Operator page from everyone else and guards its route', async () => {
+    await setUp({ operator: false });
+    const shell = await renderAt('/operator');
+    expect(TestBed.inject(Router).url).toBe('/overview');
+    expect(shell.querySelectorAll('a.fw-nav-entry')).toHaveLength(9);
+    expect(shell.querySelector('.fw-operator-nav')).toBeNull();
+  });
+
+  it('sends a signed-out visitor to sign-in, without the side navigation', async () => {
+    await setUp({ signedIn: false });
+    const shell = await renderAt('/keys');
+    expect(TestBed.inject(Router).url).toBe('/sign-in?returnUrl=%2Fkeys');
+    expect(shell.querySelector('mat-sidenav')).toBeNull();
+    expect(shell.querySelector('h1')?.textContent).toBe('Sign in');
+  });
+
+  it('shows the current organisation and the account menu in the toolbar', async () => {
+    await setUp();
+    const shell = await renderAt('/overview');
+    expect(shell.querySelector('.fw-org-switcher')?.textContent).toContain('Merger group');
+    expect(shell.querySelector('.fw-user-button')?.getAttribute('aria-label')).toBe('Account menu for Dana Postdoc');
+  });
+
   it('gives every navigation entry a Material Symbols icon', async () => {
+    await setUp();
     const shell = await renderAt('/');
     const icons = Array.from(shell.querySelectorAll('a.fw-nav-entry mat-icon'));
     expect(icons).toHaveLength(10);
@@ -59,20 +98,22 @@ describe('App shell', () => {
   });
 
   it('redirects the root to Overview', async () => {
+    await setUp();
     const shell = await renderAt('/');
     expect(TestBed.inject(Router).url).toBe('/overview');
     expect(shell.querySelector('main h1')?.textContent).toBe('Overview');
   });
 
   it('routes to a lazily loaded page and marks its entry as current', async () => {
-    const shell = await renderAt('/keys');
-    expect(shell.querySelector('main h1')?.textContent).toBe('Keys');
-    expect(shell.querySelector('main p')?.textContent).toBe('This page arrives with issue 6.');
+    await setUp();
+    const shell = await renderAt('/probe');
+    expect(shell.querySelector('main h1')?.textContent).toBe('Probe');
     const current = shell.querySelector('a.fw-nav-entry[aria-current="page"]');
-    expect(current?.getAttribute('href')).toBe('/keys');
+    expect(current?.getAttribute('href')).toBe('/probe');
   });
 
   it('navigates when a navigation entry is clicked', async () => {
+    await setUp();
     const shell = await renderAt('/overview');
     const jobsLink = shell.querySelector<HTMLAnchorElement>('a.fw-nav-entry[href="/jobs"]');
     expect(jobsLink).not.toBeNull();
@@ -85,7 +126,16 @@ describe('App shell', () => {
   });
 
   it('states the model caution on every page', async () => {
+    await setUp();
     const shell = await renderAt('/usage');
+    expect(shell.querySelector('footer')?.textContent).toContain(
+      'Model assumes fully ionized matter; no nuclear physics beyond neutron drip.',
+    );
+  });
+
+  it('states the model caution on the sign-in page too', async () => {
+    await setUp({ signedIn: false });
+    const shell = await renderAt('/sign-in');
     expect(shell.querySelector('footer')?.textContent).toContain(
       'Model assumes fully ionized matter; no nuclear physics beyond neutron drip.',
     );
