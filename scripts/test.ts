@@ -64,7 +64,7 @@ function nodeTestLayer(name: string, dir: string): Layer {
     files: findTests(dir),
     async run(files, env) {
       fs.mkdirSync(resultsDir, { recursive: true });
-      const tapFile = path.join(resultsDir, `${name}.tap`);
+      const tapFile = path.join(resultsDir, `${name}-${process.pid}.tap`);
       fs.rmSync(tapFile, { force: true });
       const { code } = await runProcess(
         process.execPath,
