@@ -21,7 +21,7 @@
  * eos/ never imports this folder: the physics library stays free of I/O.
  */
 
-import h5wasm from 'h5wasm/node';
+import type H5wasm from 'h5wasm/node';
 import { constants as constantRecord } from '../eos/constants.js';
 import {
   TABLE_COLUMNS, TABLE_FORMAT, TABLE_FORMAT_VERSION, gridSize, nodeLogDensityYe, nodeLogTemperature, prepareTable, validateGrid,
@@ -58,12 +58,18 @@ function fromJson(text: string): unknown {
   return JSON.parse(text, (_k, v) => (v === 'NaN' ? NaN : v === 'Infinity' ? Infinity : v === '-Infinity' ? -Infinity : v));
 }
 
-let ready: Promise<unknown> | null = null;
-/** h5wasm loads its WebAssembly module once per thread. */
-async function h5(): Promise<typeof h5wasm> {
-  ready ??= h5wasm.ready;
-  await ready;
-  return h5wasm;
+let ready: Promise<typeof H5wasm> | null = null;
+/**
+ * h5wasm loads its WebAssembly module once per thread. Imported dynamically: h5wasm/node is an
+ * ES module with top-level await, which a static import would force on every importer (the
+ * gateway's worker threads load their module graph with require() under tsx).
+ */
+async function h5(): Promise<typeof H5wasm> {
+  ready ??= import('h5wasm/node').then(async (m) => {
+    await m.default.ready;
+    return m.default;
+  });
+  return ready;
 }
 
 /**
@@ -124,6 +130,23 @@ export async function writeTable(file: string, table: FreeEnergyTable, buildPara
       }
       a.create_attribute('maxwell_max', table.accuracy.maxwellMax);
     }
+  } finally {
+    f.close();
+  }
+}
+
+/**
+ * Only the accuracy report of a table file (the `accuracy_report` attribute), without reading the
+ * columns: what the gateway's main thread puts in response metadata.
+ */
+export async function readTableAccuracy(file: string): Promise<AccuracyReport | null> {
+  const lib = await h5();
+  const f = new lib.File(file, 'r');
+  try {
+    const format = f.attrs['format']?.value;
+    if (format !== TABLE_FORMAT) throw new Error(`${file}: not a Fermiwell free-energy table (format ${JSON.stringify(format ?? null)})`);
+    const report = f.attrs['accuracy_report'];
+    return report ? (fromJson(String(report.value)) as AccuracyReport | null) : null;
   } finally {
     f.close();
   }

@@ -12,25 +12,38 @@
  *
  * Interpolation (our variant of the published scheme): the quintic Hermite basis
  * ψ0 = 1 − 10z³ + 15z⁴ − 6z⁵, ψ1 = z − 6z³ + 8z⁴ − 3z⁵, ψ2 = (z² − 3z³ + 3z⁴ − z⁵)/2 in each
- * direction, in the variables u = ln d, v = ln T (rather than d, T; f is nearly a power law or
- * linear in them, which gains orders of magnitude of accuracy at the same spacing). Then, with
- * F(u, v) the interpolant, P = d F_u, s = −F_v/T (per unit mass of ρYe), e = F − F_v,
- * ∂P/∂d = F_u + F_uu, ∂P/∂T = d F_uv/T, ∂e/∂d = (F_u − F_uv)/d, ∂e/∂T = (F_v − F_vv)/T,
- * ∂s/∂d = −F_uv/(dT), ∂s/∂T = (F_v − F_vv)/T². All come from the one interpolated F, so the three
- * Maxwell relations (Timmes & Arnett 1999, ApJS 125, 277) hold to rounding. The positron shares of
- * n, P, U, S are interpolated bicubically as ln(share + 1e-30).
+ * direction, in the variables u = ln d, v = ln T (rather than d, T). What is interpolated is not f
+ * but the better-conditioned H = (f − F0(u) − Δ(u, v))/T (prepareTable derives its node values and
+ * derivatives from the stored f columns; the file layout is unchanged):
+ *   - F0: the zero-temperature electron gas (Chandrasekhar 1939, exact; `coldFreeEnergy`), itself
+ *     quintic-Hermite interpolated in u alone. Without it s = −F_v/T was a difference of large F
+ *     values (relative error ~1e-16·(T_F/T)², measured up to 6.5e4 at log ρYe 14.8, log T 3.05).
+ *     Where kT < 3e-3 E_F the node value of f − f0 (below the rounding of f) comes from the entropy
+ *     by the Sommerfeld series σ = aT + bT³: f − f0 = T f_T/2 + T(f_T − T f_TT)/8 + O((kT/E_F)⁴).
+ *   - Δ: the pair part of a Boltzmann pair gas (`pairBoltzmann`), which carries the e^{−m_e c²/kT}
+ *     growth of the pairs (~e³ per cell at pair onset, where interpolating f erred by up to 0.7).
+ *   - /T: the non-degenerate F ∝ T ln(…) becomes nearly linear in v (e medians 1e-8 → 1e-12).
+ * Then F = T H + F0 + Δ (F0, Δ and their derivatives added back analytically), P = d F_u,
+ * s = −F_v/T (per unit mass of ρYe), e = F − F_v, ∂P/∂d = F_u + F_uu, ∂P/∂T = d F_uv/T,
+ * ∂e/∂d = (F_u − F_uv)/d, ∂e/∂T = (F_v − F_vv)/T, ∂s/∂d = −F_uv/(dT), ∂s/∂T = (F_v − F_vv)/T².
+ * All come from the one F, so the three Maxwell relations (Timmes & Arnett 1999, ApJS 125, 277) hold
+ * to rounding (measured ≤ 4.4e-15). The positron shares of n, P, U, S are interpolated bicubically
+ * as ln(share + 1e-30).
  *
- * Accuracy: measured by `measureAccuracy` at cell centres and a seeded random sample against the
- * exact method and stored in the table (`table.accuracy`); the default grid (20 points per decade)
- * reaches the figures given in eos/README.md ("Table method").
+ * Accuracy: measured by `measureErrors` at cell centres and a seeded random sample against the
+ * exact method and stored in the table (`table.accuracy`). Default grid (20 points per decade),
+ * 40 000 random off-grid points, relative max / median: P 1.1e-5 / 1.4e-11, e 5.7e-5 / 6.6e-12,
+ * s 1.6e-5 / 6.1e-10 (before: 0.14, 0.71, 6.5e4 max); ≤ 1e-6 max everywhere except the pair-onset
+ * band T ≈ 10^8.2–10^10 K at ρYe ≲ 1e7 g/cm³; per region in eos/README.md ("Table method").
  */
 
-import { AVOGADRO } from './constants.js';
+import { AVOGADRO, BOLTZMANN_K, ELECTRON_MASS, ELECTRON_REST_ENERGY, PLANCK_H, SPEED_OF_LIGHT } from './constants.js';
 import { createPairGasState, pairGas, PAIR_OK, type PairGasState } from './electron-positron.js';
 import { NODE_ETA, NODE_LENGTH, pairGasNode } from './pair-gas-second-derivatives.js';
 
 export const TABLE_FORMAT = 'fermiwell free-energy table';
-export const TABLE_FORMAT_VERSION = 1;
+/** 2: the kernel interpolates F − F0 − Δ (cold and pair parts analytic); the accuracy report changed. */
+export const TABLE_FORMAT_VERSION = 2;
 
 /** Grid in log10 d (d = ρYe, g/cm³) and log10 T (K); points per decade in each direction. */
 export interface TableGrid {
@@ -97,6 +110,8 @@ export interface FreeEnergyTable {
   build: { builtAt: string; seconds: number; workers: number; builder: string };
   /** Kernel data derived from the columns by `prepareTable` (not stored in files). */
   packed?: Float64Array;
+  /** Per density node: the T = 0 free energy F0, F0_x, F0_xx (x = u/h_u; prepareTable; not stored in files). */
+  packedCold?: Float64Array;
 }
 
 export function gridSize(grid: TableGrid): { nD: number; nT: number } {
@@ -208,8 +223,8 @@ const SHARE_FLOOR = 1e-30;
 
 /**
  * Derives the kernel's packed array from the columns (call after loading a table from a file;
- * assembleTable calls it). Layout per node: 9 scaled F values (F, F_x, F_y, F_xx, F_xy, F_yy,
- * F_xxy, F_xyy, F_xxyy with x = u/h_u, y = v/h_v), then η, η_x, η_y, η_xy, then for the positron
+ * assembleTable calls it). Layout per node: 9 scaled values of H = (f − F0 − Δ)/T (H, H_x, H_y,
+ * H_xx, H_xy, H_yy, H_xxy, H_xyy, H_xxyy with x = u/h_u, y = v/h_v; see the module comment), then η, η_x, η_y, η_xy, then for the positron
  * shares of n (relative to d N_A), P, U, S: L, L_x, L_y, L_xy with L = ln(share + 1e-30).
  */
 export function prepareTable(table: FreeEnergyTable): FreeEnergyTable {
@@ -217,8 +232,16 @@ export function prepareTable(table: FreeEnergyTable): FreeEnergyTable {
   const hu = Math.LN10 / grid.pointsPerDecadeDensity;
   const hv = Math.LN10 / grid.pointsPerDecadeTemperature;
   const packed = new Float64Array(nD * nT * STRIDE);
+  const packedCold = new Float64Array(nD * 3);
+  const cold = new Float64Array(4);
+  const pairPart = new Float64Array(9);
   for (let i = 0; i < nD; i++) {
     const d = 10 ** nodeLogDensityYe(grid, i);
+    coldFreeEnergy(d, cold);
+    const F0 = cold[0], F0u = cold[1], F0uu = cold[2], EF = cold[3];
+    packedCold[3 * i] = F0;
+    packedCold[3 * i + 1] = F0u * hu;
+    packedCold[3 * i + 2] = F0uu * hu * hu;
     for (let j = 0; j < nT; j++) {
       const T = 10 ** nodeLogTemperature(grid, j);
       const k = i * nT + j;
@@ -227,18 +250,41 @@ export function prepareTable(table: FreeEnergyTable): FreeEnergyTable {
       const fdt = c.free_energy_dt[k], ftt = c.free_energy_tt[k], fddt = c.free_energy_ddt[k], fdtt = c.free_energy_dtt[k];
       const fddtt = c.free_energy_ddtt[k];
       // F(u, v) and its derivatives in u = ln d, v = ln T
-      const F = f, Fu = d * fd, Fv = T * ft, Fuu = d * d * fdd + d * fd, Fuv = d * T * fdt, Fvv = T * T * ftt + T * ft;
+      const Fu = d * fd, Fv = T * ft, Fuu = d * d * fdd + d * fd, Fuv = d * T * fdt, Fvv = T * T * ftt + T * ft;
       const Fuuv = T * (d * d * fddt + d * fdt), Fuvv = d * (T * T * fdtt + T * fdt);
       const Fuuvv = d * d * T * T * fddtt + d * d * T * fddt + d * T * T * fdtt + d * T * fdt;
-      packed[o] = F;
-      packed[o + 1] = Fu * hu;
-      packed[o + 2] = Fv * hv;
-      packed[o + 3] = Fuu * hu * hu;
-      packed[o + 4] = Fuv * hu * hv;
-      packed[o + 5] = Fvv * hv * hv;
-      packed[o + 6] = Fuuv * hu * hu * hv;
-      packed[o + 7] = Fuvv * hu * hv * hv;
-      packed[o + 8] = Fuuvv * hu * hu * hv * hv;
+      // The interpolated function is the thermal part G = F − F0(u). Where the gas is strongly
+      // degenerate (kT < SOMMERFELD_SWITCH·E_F) f − f0 is below the rounding of f, so G, G_u, G_uu
+      // come from the entropy through the Sommerfeld series σ = aT + bT³ (odd in T at fixed d):
+      // G = −∫₀ᵀ σ dT' = T f_T/2 + T (f_T − T f_TT)/8 + O((kT/E_F)⁴ G), and its d-derivatives alike.
+      let G: number, Gu: number, Guu: number;
+      if (BOLTZMANN_K * T < SOMMERFELD_SWITCH * EF) {
+        const A = T * ft, B = T * (ft - T * ftt); // G = A/2 + B/8
+        const Au = d * T * fdt, Bu = d * T * (fdt - T * fdtt);
+        const Auu = T * (d * fdt + d * d * fddt), Buu = T * (d * fdt + d * d * fddt - T * (d * fdtt + d * d * fddtt));
+        G = 0.5 * A + 0.125 * B;
+        Gu = 0.5 * Au + 0.125 * Bu;
+        Guu = 0.5 * Auu + 0.125 * Buu;
+      } else {
+        G = f - F0;
+        Gu = Fu - F0u;
+        Guu = Fuu - F0uu;
+      }
+      if (!pairBoltzmann(d, T, pairPart)) pairPart.fill(0);
+      const D = pairPart;
+      // interpolated: H = (G − Δ)/T, derivatives in (u, v) from those of K = G − Δ
+      const it = 1 / T;
+      const K0 = G - D[0], Ku = Gu - D[1], Kv = Fv - D[2], Kuu = Guu - D[3], Kuv = Fuv - D[4], Kvv = Fvv - D[5];
+      const Kuuv = Fuuv - D[6], Kuvv = Fuvv - D[7], Kuuvv = Fuuvv - D[8];
+      packed[o] = K0 * it;
+      packed[o + 1] = Ku * it * hu;
+      packed[o + 2] = (Kv - K0) * it * hv;
+      packed[o + 3] = Kuu * it * hu * hu;
+      packed[o + 4] = (Kuv - Ku) * it * hu * hv;
+      packed[o + 5] = (Kvv - 2 * Kv + K0) * it * hv * hv;
+      packed[o + 6] = (Kuuv - Kuu) * it * hu * hu * hv;
+      packed[o + 7] = (Kuvv - 2 * Kuv + Ku) * it * hu * hv * hv;
+      packed[o + 8] = (Kuuvv - 2 * Kuuv + Kuu) * it * hu * hu * hv * hv;
       packed[o + 9] = c.eta[k];
       packed[o + 10] = d * c.eta_d[k] * hu;
       packed[o + 11] = T * c.eta_t[k] * hv;
@@ -277,7 +323,109 @@ export function prepareTable(table: FreeEnergyTable): FreeEnergyTable {
     }
   }
   table.packed = packed;
+  table.packedCold = packedCold;
   return table;
+}
+
+const PAIR_Z_C = Math.log((1 / (Math.PI * Math.PI)) * (ELECTRON_MASS * SPEED_OF_LIGHT * 2 * Math.PI / PLANCK_H) ** 3 * Math.sqrt(Math.PI / 2));
+/** Taper exp(−(β/PAIR_TAPER_BETA)^PAIR_TAPER_POWER) of the analytic pair part (our choice; see pairBoltzmann). */
+const PAIR_TAPER_BETA = 0.7;
+const PAIR_TAPER_POWER = 3;
+
+/**
+ * The pair part of the free energy of a non-degenerate (Boltzmann) electron–positron gas in pair
+ * equilibrium, per unit mass of ρYe, and its (u = ln d, v = ln T) derivatives, into
+ * out = [Δ, Δ_u, Δ_v, Δ_uu, Δ_uv, Δ_vv, Δ_uuv, Δ_uvv, Δ_uuvv] (returns false, out untouched, where it is below
+ * e^{-40} kT N_A). With n∓ = Z e^{±ψ} (ψ = μ/kT including the rest mass), neutrality n₋ − n₊ = n0 = d N_A
+ * gives ψ = sinh⁻¹a, a = n0/(2Z), and F = n₋μ₋ + n₊μ₊ − (n₋ + n₊)kT per volume; Δ is that minus its
+ * no-pair limit (ψ → ln 2a): Δ = k T N_A φ(a), φ = sinh⁻¹a − ln 2a − (1 + a²)^{1/2}/a + 1
+ * = log1p(q/2) − q, q = 1/(a(a + (1 + a²)^{1/2})), → −1/(4a²) when pairs are few.
+ * Z(T) = (1/π²)(m_e c/ħ)³ β K2(1/β) for the Boltzmann gas (Maxwell–Jüttner; β = kT/m_e c²); here
+ * the asymptotic form K2(z) ≈ (π/2z)^{1/2} e^{−z}(1 + 15/8z + 105/128z²) (NIST DLMF 10.40.2) times
+ * the taper exp(−(β/0.7)³), so that Z̃ is smooth and vanishes where the asymptotic form fails
+ * (0.7 and 3 chosen by measurement on the default grid: the taper trades the mismatch Z̃/Z − 1 at
+ * low T against its own steepness at high T; (0.5, 4) and (0.8, 3) gave larger maxima).
+ * Any smooth Z̃ is exact here: the table interpolates F − F0 − Δ and Δ is added back analytically;
+ * Δ only has to carry the e^{−m_e c²/kT} growth of the pairs, which one cell of the grid cannot.
+ */
+export function pairBoltzmann(d: number, T: number, out: Float64Array): boolean {
+  const beta = (BOLTZMANN_K * T) / ELECTRON_REST_ENERGY;
+  // below kT = 0.01 m_e c² the pair part is < e^{-40} kT N_A for every d ≥ 1e-15 g/cm³ (ln a > 40)
+  if (beta < 0.01) return false;
+  const S = 1 + beta * (15 / 8 + beta * (105 / 128));
+  const S1 = beta * (15 / 8 + beta * (105 / 64)); // β S'
+  const S2 = beta * beta * (105 / 64); // β² S''
+  const b4 = (beta / PAIR_TAPER_BETA) ** PAIR_TAPER_POWER;
+  const L = PAIR_Z_C + 1.5 * Math.log(beta) - 1 / beta + Math.log(S) - b4; // ln Z̃
+  const lam = Math.log(d * AVOGADRO * 0.5) - L; // ln a
+  if (lam > 40) return false;
+  const L1 = 1.5 + 1 / beta + S1 / S - PAIR_TAPER_POWER * b4;
+  const L2 = -1 / beta + S1 / S + S2 / S - (S1 / S) ** 2 - PAIR_TAPER_POWER * PAIR_TAPER_POWER * b4;
+  const a = Math.exp(lam);
+  const r = a > 1e8 ? a * (1 + 0.5 / (a * a)) : Math.sqrt(1 + a * a);
+  const q = 1 / (a * (a + r));
+  const P0 = Math.log1p(0.5 * q) - q;
+  const P1 = q;
+  const P2 = -1 / (a * r);
+  const r3 = r * r * r;
+  const P3 = (1 + 2 * a * a) / (a * r3);
+  const P4 = P3 * ((4 * a * a) / (1 + 2 * a * a) - 1 - (3 * a * a) / (r * r));
+  const E = BOLTZMANN_K * AVOGADRO * T;
+  out[0] = E * P0;
+  out[1] = E * P1;
+  out[2] = E * (P0 - L1 * P1);
+  out[3] = E * P2;
+  out[4] = E * (P1 - L1 * P2);
+  out[5] = E * (P0 - 2 * L1 * P1 - L2 * P1 + L1 * L1 * P2);
+  out[6] = E * (P2 - L1 * P3);
+  out[7] = E * (P1 - 2 * L1 * P2 - L2 * P2 + L1 * L1 * P3);
+  out[8] = E * (P2 - 2 * L1 * P3 - L2 * P3 + L1 * L1 * P4);
+  return true;
+}
+
+/** Below this kT/E_F the thermal free energy of a table node comes from the Sommerfeld series (prepareTable). */
+const SOMMERFELD_SWITCH = 3e-3;
+const COLD_X = PLANCK_H / (ELECTRON_MASS * SPEED_OF_LIGHT) * Math.cbrt(3 / (8 * Math.PI));
+const COLD_P = (Math.PI * ELECTRON_MASS ** 4 * SPEED_OF_LIGHT ** 5) / PLANCK_H ** 3;
+
+/**
+ * Free energy per unit mass of ρYe of the zero-temperature electron gas (Chandrasekhar 1939,
+ * "An Introduction to the Study of Stellar Structure", ch. X): with n = d N_A,
+ * x = p_F/(m_e c) = (h/(m_e c))(3n/8π)^{1/3},
+ *   P0 = (π m_e⁴c⁵/h³)·(1/3)[x(2x² − 3)(1 + x²)^{1/2} + 3 sinh⁻¹x] = (π m_e⁴c⁵/h³)(8/3)∫₀ˣ t⁴(1 + t²)^{−1/2} dt,
+ *   f0 = U0/d = N_A (μ0 − m_e c²) − P0/d,  μ0 − m_e c² = m_e c² x²/(1 + (1 + x²)^{1/2}),
+ * and, with u = ln d, f0_u = P0/d, f0_uu = N_A m_e c² x²/(3(1 + x²)^{1/2}) − P0/d (dP0/dn = n dμ0/dn).
+ * For x ≤ 0.5 the bracket is summed as its series (8/3)Σ_k c_k x^{2k+5}/(2k+5), c_k the binomial
+ * coefficients of (1 + t²)^{−1/2}, which avoids the cancellation of the closed form (relative
+ * accuracy ≤ 1e-15 either way). out = [f0, f0_u, f0_uu, E_F = μ0 − m_e c²].
+ */
+export function coldFreeEnergy(d: number, out: Float64Array): void {
+  const n = d * AVOGADRO;
+  const x = COLD_X * Math.cbrt(n);
+  const x2 = x * x;
+  const r = Math.sqrt(1 + x2);
+  let B: number;
+  if (x <= 0.5) {
+    let ck = 1;
+    let pw = x2 * x2 * x;
+    B = 0;
+    for (let k = 0; k < 60; k++) {
+      const t = (ck * pw) / (2 * k + 5);
+      B += t;
+      if (Math.abs(t) < 1e-17 * Math.abs(B)) break;
+      ck *= -(2 * k + 1) / (2 * k + 2);
+      pw *= x2;
+    }
+    B *= 8 / 3;
+  } else {
+    B = (x * (2 * x2 - 3) * r + 3 * Math.asinh(x)) / 3;
+  }
+  const P0 = COLD_P * B;
+  const EF = (ELECTRON_REST_ENERGY * x2) / (1 + r);
+  out[0] = AVOGADRO * EF - P0 / d;
+  out[1] = P0 / d;
+  out[2] = (AVOGADRO * ELECTRON_REST_ENERGY * x2) / (3 * r) - P0 / d;
+  out[3] = EF;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -293,6 +441,8 @@ export const TABLE_OUTSIDE = 1;
  * (totals per volume with ∂/∂d|_T and ∂/∂T|_d; positrons; electrons = total − positrons; η; n±).
  * Returns TABLE_OK or TABLE_OUTSIDE. No allocation.
  */
+const kernelPair = new Float64Array(9);
+
 export function tablePairGas(table: FreeEnergyTable, d: number, T: number, out: PairGasState): number {
   const g = table.grid;
   const data = table.packed!;
@@ -411,9 +561,28 @@ export function tablePairGas(table: FreeEnergyTable, d: number, T: number, out: 
     Fxy += H0 * b10d + H1 * b11d + H2 * b12d;
     Fyy += K0 * a10 + K1 * a11 + K2 * a12;
   }
-  // to u = ln d, v = ln T
-  const Fu = Fx * invHu, Fv = Fy * invHv;
-  const Fuu = Fxx * invHu * invHu, Fuv = Fxy * invHu * invHv, Fvv = Fyy * invHv * invHv;
+  // the interpolant is H = G/T; G = T H and its (u = ln d, v = ln T) derivatives
+  const Hu = Fx * invHu, Hv = Fy * invHv;
+  const Huu = Fxx * invHu * invHu, Huv = Fxy * invHu * invHv, Hvv = Fyy * invHv * invHv;
+  F = T * F;
+  let Fu = T * Hu;
+  let Fv = F + T * Hv;
+  let Fuu = T * Huu;
+  let Fuv = T * (Hu + Huv);
+  let Fvv = Fv + T * (Hv + Hvv);
+  // add the T = 0 part F0(u) (quintic Hermite in u alone; it has no v-dependence)
+  {
+    const cold = table.packedCold!;
+    const c0 = 3 * i;
+    F += cold[c0] * a00 + cold[c0 + 1] * a01 + cold[c0 + 2] * a02 + cold[c0 + 3] * a10 + cold[c0 + 4] * a11 + cold[c0 + 5] * a12;
+    Fu += (cold[c0] * b00d + cold[c0 + 1] * b01d + cold[c0 + 2] * b02d + cold[c0 + 3] * b10d + cold[c0 + 4] * b11d + cold[c0 + 5] * b12d) * invHu;
+    Fuu += (cold[c0] * c00 + cold[c0 + 1] * c01 + cold[c0 + 2] * c02 + cold[c0 + 3] * c10 + cold[c0 + 4] * c11 + cold[c0 + 5] * c12) * invHu * invHu;
+  }
+  // and the analytic pair part Δ(u, v)
+  if (pairBoltzmann(d, T, kernelPair)) {
+    F += kernelPair[0]; Fu += kernelPair[1]; Fv += kernelPair[2];
+    Fuu += kernelPair[3]; Fuv += kernelPair[4]; Fvv += kernelPair[5];
+  }
   const invT = 1 / T;
   const P = d * Fu;
   const eps = F - Fv; // energy per unit mass of ρYe
