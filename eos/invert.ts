@@ -29,6 +29,9 @@
  * returned (converged) solution is one of several when P* lies in the dip's range; for (P, s) the
  * status says the search met a decreasing isentrope near the solution.
  *
+ * Method "table": the search bracket is the table's grid (ρYe and T, at each point's Ye) within the
+ * domain, so edge probes never leave the table (tests/eos/table-invert.test.ts).
+ *
  * Accuracy (tests/eos/invert.test.ts, 10 000 states per problem over the whole domain): round
  * trips ≤ 2.5e-13 where the problem is well conditioned, within the rounding floor elsewhere.
  */
@@ -40,6 +43,7 @@ import {
 import { toFloat64Column, type Column, type CompositionInput, type ResolvedComposition } from './composition.js';
 import { RADIATION_A } from './constants.js';
 import { electronCoupling } from './coulomb.js';
+import type { TableGrid } from './free-energy-table.js';
 
 export type InverseProblem =
   | 'density-energy'
@@ -107,6 +111,27 @@ const LN_T_MIN = Math.log(TEMPERATURE_MIN);
 const LN_T_MAX = Math.log(TEMPERATURE_MAX);
 const LN_RHO_MIN = Math.log(DENSITY_MIN);
 const LN_RHO_MAX = Math.log(DENSITY_MAX);
+/**
+ * The search bracket: the whole domain, or, for method "table", the part of it the table's grid
+ * covers at the point's Ye (set per point by `invert`; evaluations are synchronous, so one module-level
+ * object suffices). The edges are the exact values a probe at the bracket's ends evaluates.
+ */
+const bounds = {
+  tMin: TEMPERATURE_MIN, tMax: TEMPERATURE_MAX, rhoMin: DENSITY_MIN, rhoMax: DENSITY_MAX,
+  lnTMin: LN_T_MIN, lnTMax: LN_T_MAX, lnRhoMin: LN_RHO_MIN, lnRhoMax: LN_RHO_MAX,
+};
+function setBounds(tMin: number, tMax: number, rhoMin: number, rhoMax: number): void {
+  bounds.tMin = tMin; bounds.tMax = tMax; bounds.rhoMin = rhoMin; bounds.rhoMax = rhoMax;
+  bounds.lnTMin = Math.log(tMin); bounds.lnTMax = Math.log(tMax); bounds.lnRhoMin = Math.log(rhoMin); bounds.lnRhoMax = Math.log(rhoMax);
+}
+/** The table's grid at electron fraction ye, within the domain (1e-12 inside its edges, so edge probes stay in the table). */
+function setTableBounds(g: TableGrid, ye: number): void {
+  const inside = 1e-12;
+  setBounds(
+    Math.max(TEMPERATURE_MIN, 10 ** g.logTemperatureMin * (1 + inside)), Math.min(TEMPERATURE_MAX, 10 ** g.logTemperatureMax * (1 - inside)),
+    Math.max(DENSITY_MIN, (10 ** g.logDensityYeMin / ye) * (1 + inside)), Math.min(DENSITY_MAX, (10 ** g.logDensityYeMax / ye) * (1 - inside)),
+  );
+}
 const EPS = 2.220446049250313e-16;
 /** Internal: not monotone and no solution found (reported as NOT_MONOTONE with converged = 0). */
 const NOT_MONOTONE_NO_SOLUTION = 255;
@@ -322,7 +347,7 @@ class TemperatureProbe extends Probe {
   q: Qty = Qty.E;
   constructor(private ctx: PointContext) { super(); }
   at(y: number): number {
-    const T = y >= LN_T_MAX ? TEMPERATURE_MAX : y <= LN_T_MIN ? TEMPERATURE_MIN : Math.exp(y);
+    const T = y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y);
     const st = this.ctx.compute(this.rho, T);
     if (st !== STATUS.OK) return st;
     const t = this.ctx.kernel.total;
@@ -334,7 +359,7 @@ class TemperatureProbe extends Probe {
   }
   guess(fLo: number, fyLo: number, target: number): number {
     const df = target - fLo;
-    const tLo = TEMPERATURE_MIN;
+    const tLo = bounds.tMin;
     let t: number;
     if (this.q === Qty.E) {
       // e − e_lo ≥ a(T⁴ − T_lo⁴)/ρ and ≥ c_v(T_lo)(T − T_lo) where c_v grows with T
@@ -346,7 +371,7 @@ class TemperatureProbe extends Probe {
       t = Math.min(tLo * Math.exp(Math.min(df / fyLo, 700)), Math.cbrt((3 * this.rho * df) / (4 * RADIATION_A) + tLo ** 3));
     }
     if (!(t > tLo)) t = tLo * 1.001;
-    return Math.log(Math.min(t, TEMPERATURE_MAX));
+    return Math.log(Math.min(t, bounds.tMax));
   }
 }
 
@@ -355,7 +380,7 @@ class DensityProbe extends Probe {
   T = NaN;
   constructor(private ctx: PointContext) { super(); }
   at(y: number): number {
-    const rho = y >= LN_RHO_MAX ? DENSITY_MAX : y <= LN_RHO_MIN ? DENSITY_MIN : Math.exp(y);
+    const rho = y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y);
     const st = this.ctx.compute(rho, this.T);
     if (st !== STATUS.OK) return st;
     const t = this.ctx.kernel.total;
@@ -366,9 +391,9 @@ class DensityProbe extends Probe {
   }
   guess(fLo: number, fyLo: number, target: number): number {
     // P − P_lo ≥ (∂P/∂ρ)_lo (ρ − ρ_lo) where P is convex in ρ (ideal and degenerate gases)
-    let rho = DENSITY_MIN + (target - fLo) / (fyLo / DENSITY_MIN);
-    if (!(rho > DENSITY_MIN)) rho = DENSITY_MIN * 1.001;
-    return Math.log(Math.min(rho, DENSITY_MAX));
+    let rho = bounds.rhoMin + (target - fLo) / (fyLo / bounds.rhoMin);
+    if (!(rho > bounds.rhoMin)) rho = bounds.rhoMin * 1.001;
+    return Math.log(Math.min(rho, bounds.rhoMax));
   }
 }
 
@@ -386,7 +411,7 @@ class IsentropeProbe extends Probe {
     this.innerNonMonotone = false;
   }
   at(y: number): number {
-    const rho = y >= LN_RHO_MAX ? DENSITY_MAX : y <= LN_RHO_MIN ? DENSITY_MIN : Math.exp(y);
+    const rho = y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y);
     const tp = this.tProbe;
     tp.rho = rho;
     tp.q = Qty.S;
@@ -394,10 +419,10 @@ class IsentropeProbe extends Probe {
     if (Number.isFinite(this.lastLnT)) {
       // follow the isentrope from the last point found: d ln T/d ln ρ|_s = −ρ s_ρ/(T s_T)
       let warm = this.lastLnT + (Number.isFinite(this.slope) ? this.slope * (y - this.lastX) : 0);
-      warm = Math.min(LN_T_MAX, Math.max(LN_T_MIN, warm));
-      st = this.inner.solve(tp, LN_T_MIN, LN_T_MAX, this.entropy, this.entropy > 0 ? Mode.Log : Mode.Linear, warm);
+      warm = Math.min(bounds.lnTMax, Math.max(bounds.lnTMin, warm));
+      st = this.inner.solve(tp, bounds.lnTMin, bounds.lnTMax, this.entropy, this.entropy > 0 ? Mode.Log : Mode.Linear, warm);
     } else {
-      st = this.inner.solve(tp, LN_T_MIN, LN_T_MAX, this.entropy, Mode.LowerEnd, NaN);
+      st = this.inner.solve(tp, bounds.lnTMin, bounds.lnTMax, this.entropy, Mode.LowerEnd, NaN);
     }
     this.innerNonMonotone = st === STATUS.NOT_MONOTONE;
     // s decreases with ρ at fixed T: no T cold enough means ρ is too low, no T hot enough means too high
@@ -470,13 +495,13 @@ class IsothermScan {
     if (T > coulombInstabilityTMax(z)) return;
     const ge1 = electronCoupling(1, T, ctx.zbar / ctx.abar);
     const g0 = (1 + ctx.zbar) / 3 / (Math.pow(z, 5 / 3) * ge1);
-    let x = Math.max(LN_RHO_MIN, 3 * Math.log(g0));
-    if (x >= LN_RHO_MAX) return;
+    let x = Math.max(bounds.lnRhoMin, 3 * Math.log(g0));
+    if (x >= bounds.lnRhoMax) return;
     if (!this.sample(x)) return;
     let p1 = this.ctx.kernel.total.P;
     let s1 = this.ctx.rho * this.ctx.kernel.total.dPdRho;
-    while (x < LN_RHO_MAX) {
-      const x2 = Math.min(LN_RHO_MAX, x + SCAN_STEP);
+    while (x < bounds.lnRhoMax) {
+      const x2 = Math.min(bounds.lnRhoMax, x + SCAN_STEP);
       if (!this.segment(x, p1, s1, x2, 0)) return;
       const t = this.ctx.kernel.total;
       p1 = t.P;
@@ -516,7 +541,7 @@ class IsothermScan {
   }
 
   private evaluate(x: number): boolean {
-    const st = this.ctx.compute(Math.exp(Math.min(x, LN_RHO_MAX)), this.T);
+    const st = this.ctx.compute(Math.exp(Math.min(x, bounds.lnRhoMax)), this.T);
     this.evaluations++;
     if (st !== STATUS.OK) {
       this.status = st;
@@ -599,8 +624,8 @@ class Newton2D {
       let lambda = 1;
       let accepted = false;
       for (let ls = 0; ls < 6; ls++) {
-        const xn = Math.min(LN_RHO_MAX, Math.max(LN_RHO_MIN, x + lambda * dx));
-        const yn = Math.min(LN_T_MAX, Math.max(LN_T_MIN, y + lambda * dy));
+        const xn = Math.min(bounds.lnRhoMax, Math.max(bounds.lnRhoMin, x + lambda * dx));
+        const yn = Math.min(bounds.lnTMax, Math.max(bounds.lnTMin, y + lambda * dy));
         const st = ctx.compute(Math.exp(xn), Math.exp(yn));
         this.iterations++;
         if (st !== STATUS.OK) return st;
@@ -664,6 +689,7 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
   const relativistic = options.soundSpeed === 'relativistic';
   const kernel = new PointKernel(inc, options.method === 'table' ? options.table! : null);
   if (options.method === 'table') res.method = 'table';
+  setBounds(TEMPERATURE_MIN, TEMPERATURE_MAX, DENSITY_MIN, DENSITY_MAX);
   const ctx = new PointContext(kernel, mixtureOf(comp));
   const outer = new Solver1D(tol, maxEval);
   const inner = new Solver1D(tol / 16, maxEval);
@@ -688,12 +714,14 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
     ctx.abar = comp.abar[i];
     ctx.zbar = comp.zbar[i];
     ctx.row = i;
+    // method "table": search only where the table answers (points outside it get TABLE_OUT_OF_RANGE)
+    if (kernel.table !== null) setTableBounds(kernel.table.grid, comp.ye[i]);
     outer.iterations = 0;
     inner.iterations = 0;
     let qty = Qty.E;
     if (problem === 'pressure-temperature') {
       dProbe.T = b;
-      st = outer.solve(dProbe, LN_RHO_MIN, LN_RHO_MAX, a, Mode.LowerEnd, NaN);
+      st = outer.solve(dProbe, bounds.lnRhoMin, bounds.lnRhoMax, a, Mode.LowerEnd, NaN);
       if (st === STATUS.OK || st === STATUS.NOT_MONOTONE) {
         // P(ρ) at fixed T is not monotone where the Coulomb term wins: check this isotherm.
         const rhoStar = ctx.rho;
@@ -717,12 +745,12 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
       // Nested 1-D solves to 1e-6, then 2-D Newton polishes to the tolerance (one evaluation per
       // step); if that fails, the nested solve continues to the full tolerance.
       outer.tol = Math.max(tol, 1e-6);
-      st = outer.solve(sProbe, LN_RHO_MIN, LN_RHO_MAX, a, Mode.Log, 0);
+      st = outer.solve(sProbe, bounds.lnRhoMin, bounds.lnRhoMax, a, Mode.Log, 0);
       outer.tol = tol;
       if ((st === STATUS.OK || st === STATUS.NOT_MONOTONE) && tol < 1e-6) {
         const stN = newton.solve(ctx, a, b, outer.y, inner.y, tol);
         outer.iterations += newton.iterations;
-        if (stN === NEWTON_FALLBACK || stN > 0) st = outer.solve(sProbe, LN_RHO_MIN, LN_RHO_MAX, a, Mode.Log, outer.y);
+        if (stN === NEWTON_FALLBACK || stN > 0) st = outer.solve(sProbe, bounds.lnRhoMin, bounds.lnRhoMax, a, Mode.Log, outer.y);
       }
       if (st === STATUS.OK && sProbe.innerNonMonotone) st = STATUS.NOT_MONOTONE;
       qty = Qty.P;
@@ -730,7 +758,7 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
       tProbe.rho = a;
       tProbe.q = problem === 'density-energy' ? Qty.E : problem === 'density-pressure' ? Qty.P : Qty.S;
       qty = tProbe.q;
-      st = outer.solve(tProbe, LN_T_MIN, LN_T_MAX, b, Mode.LowerEnd, NaN);
+      st = outer.solve(tProbe, bounds.lnTMin, bounds.lnTMax, b, Mode.LowerEnd, NaN);
     }
     const evals = outer.iterations + inner.iterations;
     res.iterations[i] = Math.min(evals, 65535);
@@ -814,8 +842,8 @@ function failureMessage(
   const solvingT = problem.startsWith('density-');
   const unknown = solvingT ? 'temperature' : problem === 'pressure-temperature' ? 'density' : 'density and temperature';
   const range = solvingT
-    ? `[${TEMPERATURE_MIN}, ${TEMPERATURE_MAX}] K`
-    : `[${DENSITY_MIN}, ${DENSITY_MAX}] g/cm³`;
+    ? `[${bounds.tMin}, ${bounds.tMax}] K`
+    : `[${bounds.rhoMin}, ${bounds.rhoMax}] g/cm³`;
   const target = problem === 'pressure-entropy' ? `pressure ${fmt(a)} and specific entropy ${fmt(b)}` : `${QTY_WORD[q]} ${fmt(solvingT ? b : a)}`;
   const at = solvingT ? ` at density ${fmt(a)} g/cm³` : problem === 'pressure-temperature' ? ` at temperature ${fmt(b)} K` : '';
   switch (st) {

@@ -30,6 +30,11 @@ const schema = z.object({
   EOS_CHUNK_POINTS: z.coerce.number().int().min(1).max(1_000_000).default(16_384),
   /** Points admitted to the pool but not finished, beyond which new batches get a 503 (memory bound). */
   EOS_MAX_PENDING_POINTS: z.coerce.number().int().min(1).default(20_000_000),
+  /**
+   * The free-energy table file (HDF5) behind method "table"; `npm start` and `npm test` build or
+   * reuse the default table and set it. Unset or empty: method "table" answers 501 method-not-available.
+   */
+  EOS_TABLE_PATH: z.string().optional().transform((v) => v || undefined),
 
   // ── Accounts: sessions, e-mail, sign-in limits (gateway/auth, gateway/mail; contract in gateway/auth/README.md) ──
   /**

@@ -1,7 +1,9 @@
 /**
  * `npm start` after the installs (scripts/start.sh): the project-local PostgreSQL cluster in .data/pg
  * (unless DATABASE_URL is set), migrations and demo seeds, the local fakes, the dashboard build, and
- * the gateway serving API and dashboard on http://127.0.0.1:8080. Ctrl-C / SIGTERM stops everything
+ * the default free-energy table (built on all cores when no cached file in .data/tables/ matches
+ * the model version, else read from there; EOS_TABLE_PATH set: that file instead), and the gateway
+ * serving API and dashboard on http://127.0.0.1:8080. Ctrl-C / SIGTERM stops everything
  * it started, in reverse order, PostgreSQL last.
  */
 import path from 'node:path';
@@ -11,6 +13,7 @@ import { prepareDatabase } from './lib/database.js';
 import { startLocalServices } from './lib/local-services.js';
 import { ensureDashboardBuilt } from './lib/dashboard-build.js';
 import { devJwtSecret } from './lib/dev-secret.js';
+import { ensureFreeEnergyTable } from '../eos-tables/build.js';
 import { ConfigError, loadConfig } from '../gateway/config.js';
 import { startGateway, type RunningGateway } from '../gateway/server.js';
 import { DEMO_KEYS, DEMO_USERS, demoToken } from '../seeds/demo-accounts.js';
@@ -63,9 +66,19 @@ async function main() {
   await ensureDashboardBuilt(root, log);
   if (stopping) return;
 
+  // method "table": the gateway's worker threads read this file (EOS_TABLE_PATH)
+  let tablePath = process.env['EOS_TABLE_PATH'];
+  if (tablePath) log(`free-energy table: ${tablePath} (EOS_TABLE_PATH)`);
+  else {
+    const table = await ensureFreeEnergyTable({ dataDir, log });
+    tablePath = table.path;
+    log(`free-energy table ${table.built ? 'built' : 'found in the cache'}: ${tablePath}`);
+  }
+  if (stopping) return;
+
   let config;
   try {
-    config = loadConfig({ ...process.env, ...services.env, DATABASE_URL: databaseUrl, JWT_SECRET: devJwtSecret(dataDir) });
+    config = loadConfig({ ...process.env, ...services.env, DATABASE_URL: databaseUrl, JWT_SECRET: devJwtSecret(dataDir), EOS_TABLE_PATH: tablePath });
   } catch (error) {
     if (error instanceof ConfigError) {
       console.error(error.message);

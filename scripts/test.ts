@@ -4,7 +4,9 @@
  * builds the dashboard if stale, runs every layer — eos, gateway, dashboard (vitest), end-to-end
  * (Chromium) — and ends with the line "N passed, N failed" (", N skipped" when any were skipped;
  * under CI a skipped test fails the run). Exit status 1 on any failure. The cluster is removed at
- * the end. Arguments: run only these test files, e.g. `npm test -- tests/eos/constants.test.ts`.
+ * the end. The gateway and end-to-end layers get the default free-energy table in EOS_TABLE_PATH:
+ * the cached file in <data dir>/tables/ (FW_DATA_DIR or .data/, shared with `npm start`), built
+ * first (~15 s on all cores) when none matches the model version. Arguments: run only these test files, e.g. `npm test -- tests/eos/constants.test.ts`.
  */
 import { spawn } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
@@ -15,6 +17,7 @@ import { ensureCluster, ensureDatabase, startCluster, stopCluster, type Cluster 
 import { prepareDatabase } from './lib/database.js';
 import { startLocalServices } from './lib/local-services.js';
 import { ensureDashboardBuilt } from './lib/dashboard-build.js';
+import { ensureFreeEnergyTable } from '../eos-tables/build.js';
 import { add, parseTap, parseVitest, zero, type Counts } from './lib/test-counts.js';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
@@ -168,6 +171,11 @@ async function main() {
       const services = await startLocalServices({ dataDir: path.join(dataDir, 'test-services'), test: true }, log);
       stopServices = services.stop;
       Object.assign(env, services.env);
+      if (!env['EOS_TABLE_PATH']) {
+        const table = await ensureFreeEnergyTable({ dataDir, log, progress: 'lines' });
+        env['EOS_TABLE_PATH'] = table.path;
+        log(`free-energy table ${table.built ? 'built' : 'found in the cache'}: ${table.path}`);
+      }
     }
     if (needsDashboard) await ensureDashboardBuilt(root, log);
 

@@ -10,9 +10,16 @@
  * which piscina replaces). The pool refuses new work (503) when the points waiting would
  * pass EOS_MAX_PENDING_POINTS, so memory stays bounded under overload.
  *
+ * Tiny batches run inline (runInline below): a chunk of at most INLINE_MAX_POINTS points of an
+ * exact `evaluate` or `regime` is computed on the event loop by the worker's own task function,
+ * because handing it to a thread and back costs more than the physics (~20 µs per point exact, so
+ * at most ~1.3 ms on the loop). Inversions (iterative, cost not bounded by the point count), the
+ * table method and every larger batch still go to the threads.
+ *
  * The worker file is resolved next to this module with this module's own extension: `.ts` when
  * running under tsx (workers inherit `--import tsx` through execArgv), `.js` when compiled.
  */
+import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -27,7 +34,15 @@ export interface EosPoolOptions {
   maxThreads: number;
   taskTimeoutMs: number;
   maxPendingPoints: number;
+  /**
+   * The free-energy table file (HDF5, eos-tables/table-file.ts) for method "table"; each worker
+   * thread reads it once, on its first table task, and keeps it. Unset: method "table" answers 501.
+   */
+  tablePath?: string;
 }
+
+/** Largest exact evaluate/regime batch computed on the event loop instead of a worker thread. */
+export const INLINE_MAX_POINTS = 64;
 
 const ownFile = fileURLToPath(import.meta.url);
 const workerFile = new URL('./worker' + path.extname(ownFile), import.meta.url);
@@ -37,8 +52,13 @@ export class EosPool implements PoolStats {
   private pendingPoints = 0;
   private closed = false;
   readonly maxThreads: number;
+  readonly tablePath: string | undefined;
 
   constructor(private readonly options: EosPoolOptions) {
+    this.tablePath = options.tablePath || undefined;
+    if (this.tablePath && !fs.existsSync(this.tablePath)) {
+      throw new Error(`EOS_TABLE_PATH: no free-energy table at ${this.tablePath} (npm run build:table builds the default one)`);
+    }
     const maxThreads = options.maxThreads > 0 ? options.maxThreads : Math.max(1, os.availableParallelism());
     const minThreads = Math.min(Math.max(0, options.minThreads), maxThreads);
     this.maxThreads = maxThreads;
@@ -53,6 +73,8 @@ export class EosPool implements PoolStats {
       // bounded by pendingPoints below, in points rather than tasks
       maxQueue: Number.MAX_SAFE_INTEGER,
       concurrentTasksPerWorker: 1,
+      // worker.ts reads the table from here (Piscina.workerData) on its first table task
+      workerData: { tablePath: this.tablePath ?? null },
     });
   }
 
@@ -70,6 +92,13 @@ export class EosPool implements PoolStats {
         `${this.pendingPoints} points are waiting for the worker threads; this batch of ${points} would pass the limit of ${this.options.maxPendingPoints}. Retry in a few seconds, or send smaller batches.`,
         { retryAfterSeconds: 2 },
       );
+    }
+    // after the overload check: an overloaded instance sheds tiny batches too
+    if (chunks.length === 1 && points <= INLINE_MAX_POINTS && this.inlineTask) {
+      const built = chunks[0]!();
+      const inline = this.runInline(built.task, signal);
+      if (inline) return inline;
+      chunks = [() => built];
     }
     this.pendingPoints += points;
     const abort = new AbortController();
@@ -124,6 +153,27 @@ export class EosPool implements PoolStats {
     if (this.closed) throw new ProblemError('service-unavailable', 503, 'Shutting down', 'This gateway instance shut down while the batch was computing; nothing was billed. Retry the request.');
     if (failed !== undefined) throw failed;
     return results;
+  }
+
+  /** The worker's task function, loaded in this thread for runInline (undefined until loaded). */
+  private inlineTask: ((task: EosTask) => unknown) | undefined;
+  private readonly inlineLoad = import(workerFile.href).then(
+    (m: { default: (task: EosTask) => unknown }) => (this.inlineTask = m.default),
+    () => undefined, // without it every batch simply goes to the threads
+  );
+
+  /**
+   * A tiny exact evaluate/regime chunk computed here (see the header); undefined when the task is
+   * not one for inline work, so the caller hands it to the pool.
+   */
+  private runInline(task: EosTask, signal?: AbortSignal): Array<EosTaskResult | EosTaskFailure> | undefined {
+    if (task.options.method !== 'exact' || task.op === 'invert' || task.n > INLINE_MAX_POINTS) return undefined;
+    if (signal?.aborted) throw new ProblemError('client-closed-request', 499, 'Request abandoned', 'The client went away before the batch finished; nothing was billed.');
+    let result = this.inlineTask!(task);
+    if (result instanceof Promise) return undefined; // never for exact; kept safe
+    // the worker wraps answers for transfer (Piscina.move); in this thread take the value itself
+    if (result && typeof result === 'object' && Piscina.valueSymbol in result) result = (result as Record<symbol, unknown>)[Piscina.valueSymbol];
+    return [result as EosTaskResult | EosTaskFailure];
   }
 
   queueSize(): number {

@@ -13,6 +13,8 @@
  * per-point status codes (a batch is billed by its length, like every point was evaluated).
  */
 import * as eos from '../../eos/index.js';
+import type { AccuracyReport, AccuracyStats } from '../../eos/free-energy-table.js';
+import { readTableAccuracy } from '../../eos-tables/table-file.js';
 import { ProblemError } from '../shared/problem.js';
 import type { ApiKeyContext, PlanLimits } from '../keys/types.js';
 import type { Meter } from '../usage/meter.js';
@@ -81,10 +83,47 @@ export interface Meta {
   components: string[];
   computeMs: number;
   /** Filled when the table method answers (its measured accuracy); null for the exact method. */
-  tableAccuracy: null;
+  tableAccuracy: TableAccuracyMeta | null;
   statusMessageCount: number;
   warningCount: number;
   detailsTruncated: boolean;
+}
+
+/**
+ * The table's accuracy report (measured by its builder: relative errors of the electron–positron
+ * gas against the exact method at cell centres and seeded random off-grid points), in `meta`.
+ * Non-finite figures are null.
+ */
+export interface TableAccuracyMeta {
+  /** Largest relative error of pressure, specific energy and specific entropy. */
+  maxRelativeError: number | null;
+  /** Largest of the three medians. */
+  medianRelativeError: number | null;
+  /** Per quantity (pressure, energy, entropy, derivatives, eta, …): max, median, 99th percentile. */
+  quantities: Record<string, { max: number | null; median: number | null; p99: number | null }>;
+  /** Largest Maxwell-relation residual in table mode over the same points. */
+  maxwellMax: number | null;
+  cellCentres: number;
+  randomPoints: number;
+  seed: number;
+}
+
+const finiteOrNull = (x: number): number | null => (Number.isFinite(x) ? x : null);
+
+function tableAccuracyMeta(report: AccuracyReport | null): TableAccuracyMeta | null {
+  if (!report) return null;
+  const q = report.quantities;
+  const main = ['pressure', 'energy', 'entropy'].filter((k) => q[k]);
+  const worst = (pick: (s: AccuracyStats) => number) => finiteOrNull(Math.max(...main.map((k) => pick(q[k]!))));
+  return {
+    maxRelativeError: main.length ? worst((s) => s.max) : null,
+    medianRelativeError: main.length ? worst((s) => s.median) : null,
+    quantities: Object.fromEntries(Object.entries(q).map(([k, s]) => [k, { max: finiteOrNull(s.max), median: finiteOrNull(s.median), p99: finiteOrNull(s.p99) }])),
+    maxwellMax: finiteOrNull(report.maxwellMax),
+    cellCentres: report.cellCentres,
+    randomPoints: report.randomPoints,
+    seed: report.seed,
+  };
 }
 
 export interface BatchAnswer {
@@ -413,9 +452,28 @@ export class EosService {
     this.meter.recordRejected(key, ctx.endpoint, performance.now() - ctx.startedAt);
   }
 
+  private tableAccuracyLoad: Promise<TableAccuracyMeta | null> | undefined;
+
+  /** The configured table's accuracy report, read once (attributes only) on the first table request. */
+  private tableAccuracy(file: string): Promise<TableAccuracyMeta | null> {
+    this.tableAccuracyLoad ??= readTableAccuracy(file).then(tableAccuracyMeta, (error: unknown) => {
+      this.tableAccuracyLoad = undefined; // a later request tries again
+      throw error;
+    });
+    return this.tableAccuracyLoad;
+  }
+
   /** Runs a prepared batch in the pool and merges the chunks (no metering). */
   async run(batch: PreparedBatch, encoding: Encoding, signal?: AbortSignal): Promise<BatchAnswer> {
     const { n } = batch;
+    let tableAccuracy: TableAccuracyMeta | null = null;
+    if (batch.options.method === 'table') {
+      const file = this.pool.tablePath;
+      if (!file) {
+        throw new ProblemError('method-not-available', 501, 'Method not available', 'The "table" method is not available on this gateway: no free-energy table is configured (EOS_TABLE_PATH). Use "method": "exact".', { method: 'table' });
+      }
+      tableAccuracy = await this.tableAccuracy(file);
+    }
     const size = this.chunkPoints;
     const chunks: Array<() => { task: EosTask; transfer: ArrayBuffer[] }> = [];
     for (let start = 0; start < n; start += size) {
@@ -430,7 +488,7 @@ export class EosService {
       }
       throw invalid(failure.message);
     }
-    return this.merge(batch, results as EosTaskResult[], encoding);
+    return this.merge(batch, results as EosTaskResult[], encoding, tableAccuracy);
   }
 
   private chunk(batch: PreparedBatch, start: number, end: number, encoding: Encoding): { task: EosTask; transfer: ArrayBuffer[] } {
@@ -459,7 +517,7 @@ export class EosService {
     return { task, transfer };
   }
 
-  private merge(batch: PreparedBatch, results: EosTaskResult[], encoding: Encoding): BatchAnswer {
+  private merge(batch: PreparedBatch, results: EosTaskResult[], encoding: Encoding, tableAccuracy: TableAccuracyMeta | null): BatchAnswer {
     const n = batch.n;
     const one = results.length === 1 ? results[0]! : undefined;
     const joinColumn = <C extends AnyColumn>(pick: (r: EosTaskResult) => C | undefined): C => {
@@ -524,7 +582,7 @@ export class EosService {
       points: n,
       components: batch.options.components,
       computeMs: Math.round(computeMs * 1000) / 1000,
-      tableAccuracy: null,
+      tableAccuracy,
       statusMessageCount,
       warningCount,
       detailsTruncated: statusMessages.length < statusMessageCount || warnings.length < warningCount,

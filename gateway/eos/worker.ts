@@ -7,9 +7,14 @@
  * for them). A structural problem the service should have caught, or a method the library does not
  * offer yet, comes back as an EosTaskFailure value rather than an exception, so the pool can tell
  * a request error (4xx/501) from a crash (500).
+ *
+ * Method "table": the pool passes the table file (EOS_TABLE_PATH) as piscina workerData; each thread
+ * reads it with h5wasm on its first table task and keeps it for the thread's life.
  */
 import { Piscina } from 'piscina';
 import * as eos from '../../eos/index.js';
+import type { FreeEnergyTable } from '../../eos/free-energy-table.js';
+import { readTable } from '../../eos-tables/table-file.js';
 import { NON_FINITE_OUTPUT, type AnyColumn, type EosTask, type EosTaskFailure, type EosTaskResult, type WireColumn } from './tasks.js';
 
 type Numeric = ArrayLike<number>;
@@ -17,7 +22,35 @@ type Numeric = ArrayLike<number>;
 const STATUS_NAMES: Record<number, string> = Object.fromEntries(Object.entries(eos.STATUS).map(([name, code]) => [code, name]));
 STATUS_NAMES[NON_FINITE_OUTPUT] = 'NON_FINITE_OUTPUT';
 
+/** The pool's table file (EosPoolOptions.tablePath), or null when none is configured. */
+const tablePath: string | null = (Piscina.workerData as { tablePath?: string | null } | undefined)?.tablePath ?? null;
+/** The table, read once per thread on the first table task (h5wasm), then kept. */
+let table: FreeEnergyTable | undefined;
+let tableLoading: Promise<FreeEnergyTable> | undefined;
+
+function loadTable(file: string): Promise<FreeEnergyTable> {
+  tableLoading ??= readTable(file).then(
+    (t) => (table = t),
+    (error: unknown) => {
+      tableLoading = undefined; // a later task tries again
+      throw new Error(`could not read the free-energy table ${file}: ${error instanceof Error ? error.message : String(error)}`);
+    },
+  );
+  return tableLoading;
+}
+
 export default function runTask(task: EosTask): unknown {
+  if (task.options.method === 'table' && table === undefined) {
+    if (tablePath === null) {
+      const failure: EosTaskFailure = { failure: 'method-not-available', message: 'this gateway has no free-energy table configured (EOS_TABLE_PATH)' };
+      return failure;
+    }
+    return loadTable(tablePath).then(() => compute(task));
+  }
+  return compute(task);
+}
+
+function compute(task: EosTask): unknown {
   const started = performance.now();
   let res: eos.EvaluateResult;
   let problem: string | undefined;
@@ -25,6 +58,7 @@ export default function runTask(task: EosTask): unknown {
     const input = { ...task.given, ...compositionInput(task) } as never;
     const options: eos.InvertOptions = {
       method: task.options.method,
+      ...(task.options.method === 'table' ? { table } : {}),
       components: task.options.components as eos.ComponentName[],
       soundSpeed: task.options.soundSpeed,
       maxwellResiduals: task.options.maxwellResiduals,
@@ -40,7 +74,7 @@ export default function runTask(task: EosTask): unknown {
     }
   } catch (error) {
     const message = error instanceof Error ? error.message : String(error);
-    const failure: EosTaskFailure = { failure: task.options.method === 'table' ? 'method-not-available' : 'invalid-input', message };
+    const failure: EosTaskFailure = { failure: 'invalid-input', message };
     return failure;
   }
   return shape(task, res, problem, started);

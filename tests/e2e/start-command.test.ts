@@ -87,6 +87,7 @@ test('npm start: serves readiness and the dashboard, stops cleanly, and reuses i
   const url = await first.ready;
   assert.match(first.output(), /initialising a new cluster/);
   assert.match(first.output(), /imogen\.thursby@harrowgate\.example/, 'prints the demo sign-ins');
+  assert.match(first.output(), /free-energy table/, 'names the free-energy table the gateway serves method "table" from');
   const ready = await fetch(`${url}/readyz`);
   assert.equal(ready.status, 200);
   const page = await fetch(`${url}/`, { headers: { accept: 'text/html' } });

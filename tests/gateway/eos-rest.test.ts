@@ -21,7 +21,8 @@ let free: TestKey;
 let group: TestKey;
 
 before(async () => {
-  gateway = await startTestGateway();
+  // no free-energy table configured: method "table" answers 501 here (tests/gateway/eos-table.test.ts has the table)
+  gateway = await startTestGateway({ EOS_TABLE_PATH: '' });
   fx = new Fixtures();
   free = await fx.keyOnPlan('free');
   group = await fx.keyOnPlan('group');
@@ -355,7 +356,7 @@ describe('bad requests are 4xx problems, never 5xx', () => {
     assert.match(tooBig.detail, /binary form/);
   });
 
-  test('other media types → 415; other methods → 405; table method → 501', async () => {
+  test('other media types → 415; other methods → 405; table method without a table → 501', async () => {
     const text = await fetch(`${gateway.url}/v1/eos/evaluate`, { method: 'POST', headers: { authorization: `Bearer ${group.token}`, 'content-type': 'text/plain' }, body: 'density=1' });
     await expectProblem(text, 415, 'unsupported-media-type');
     const get = await fetch(`${gateway.url}/v1/eos/evaluate`, { headers: { authorization: `Bearer ${group.token}` } });

@@ -1,0 +1,158 @@
+/**
+ * Inversions with method "table" (eos/invert.ts with the default-grid free-energy table as the start
+ * path builds it: `ensureFreeEnergyTable` with FW_DATA_DIR or .data/, reused from the cache):
+ *   - the search stays inside the table's grid (ρYe and T), so points whose solution lies in the
+ *     table converge even where the whole domain reaches beyond it (ρ = 1e-12 g/cm³ is outside
+ *     the table for Ye < 1);
+ *   - round trip of the table's own forward answer to 1e-12 relative, or to the rounding floor where
+ *     the problem is ill-conditioned (as tests/eos/invert.test.ts, with the table's own floor below);
+ *   - agreement with exact inversions within the accuracy the table reports: the exact state at the
+ *     table's solution reproduces the given quantities within the report's maximum error (the pair
+ *     gas is the only tabulated part; ions and photons are added exactly, so with the Coulomb term
+ *     left out every total is a sum of positive terms and its relative error is at most the pair
+ *     gas's), and the solved variables differ by at most that error times the condition number;
+ *   - targets no state inside the table reaches, and densities outside the table.
+ * Both comparisons cover the states where the problem is conditioned well enough for the table to
+ * determine the answer (condition number κ ≤ 1e4, at least half of each sample): above, e.g. ρ from
+ * the pressure of a hot pair- and radiation-dominated gas at κ ~ 1e7, the table's relative errors
+ * times κ exceed 1 and its P(ρ) need not even be monotone there, so the inversion may not converge.
+ * Run: node --import tsx --test tests/eos/table-invert.test.ts
+ */
+import { test } from 'node:test';
+import assert from 'node:assert/strict';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { evaluate, invert, STATUS, type ComponentName, type InverseProblem } from '../../eos/index.js';
+import { ensureFreeEnergyTable } from '../../eos-tables/build.js';
+
+const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..');
+const dataDir = path.resolve(process.env['FW_DATA_DIR'] ?? path.join(root, '.data'));
+const { table } = await ensureFreeEnergyTable({ dataDir, log: (line) => console.log(`# ${line}`), progress: 'lines' });
+const report = table.accuracy!;
+const g = table.grid;
+
+const EPS = 2.220446049250313e-16;
+const GOAL = 1e-12;
+/**
+ * The rounding floor in ulp·κ. The exact method reproduces its sums to ~64 ulp (tests/eos/invert.test.ts);
+ * the table's forward answer, a biquintic sum of 36 terms per quantity plus derived terms, to a few
+ * hundred ulp at hot pair-dominated states (measured: up to ~160 ulp·κ for (P, T) → ρ).
+ */
+const FLOOR_ULPS = 256;
+/** The states compared: condition number (of the exact inversion) at most this. */
+const KAPPA_MAX = 1e4;
+// no Coulomb term: every total is a sum of positive terms (see the header)
+const components: ComponentName[] = ['electrons', 'positrons', 'ions', 'photons'];
+
+function mulberry32(seed: number): () => number {
+  let a = seed;
+  return () => {
+    a |= 0;
+    a = (a + 0x6d2b79f5) | 0;
+    let t = Math.imul(a ^ (a >>> 15), 1 | a);
+    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+// states inside the table's grid, half a decade from its edges in ρYe and T
+const N = 300;
+const rnd = mulberry32(8086);
+const density = new Float64Array(N), temperature = new Float64Array(N), abar = new Float64Array(N), zbar = new Float64Array(N);
+for (let i = 0; i < N; i++) {
+  abar[i] = 1 + 55 * rnd();
+  zbar[i] = 1 + (Math.min(abar[i], 26) - 1) * rnd();
+  const logD = g.logDensityYeMin + 0.5 + (g.logDensityYeMax - g.logDensityYeMin - 1) * rnd();
+  density[i] = Math.min(10 ** logD / (zbar[i] / abar[i]), 10 ** 14.5); // inside the domain's ρ ≤ 1e15 too
+  temperature[i] = 10 ** (g.logTemperatureMin + 0.5 + (g.logTemperatureMax - g.logTemperatureMin - 1) * rnd());
+}
+const composition = { abar, zbar };
+const opts = { method: 'table' as const, table, components };
+const forward = evaluate({ density, temperature, ...composition }, opts);
+const exactForward = evaluate({ density, temperature, ...composition }, { components });
+for (let i = 0; i < N; i++) assert.equal(forward.status[i], STATUS.OK, `forward point ${i}: ${forward.messages[i]}`);
+
+type Given = 'density' | 'temperature' | 'pressure' | 'specificEnergy' | 'specificEntropy';
+const PROBLEMS: Array<[InverseProblem, Given, Given]> = [
+  ['density-energy', 'density', 'specificEnergy'],
+  ['density-pressure', 'density', 'pressure'],
+  ['density-entropy', 'density', 'specificEntropy'],
+  ['pressure-temperature', 'pressure', 'temperature'],
+  ['pressure-entropy', 'pressure', 'specificEntropy'],
+];
+const REPORT_KEY: Record<string, string> = { pressure: 'pressure', specificEnergy: 'energy', specificEntropy: 'entropy' };
+const col = (res: { [k: string]: unknown }, k: Given) => res[k] as Float64Array;
+const rel = (a: number, b: number) => (a === b ? 0 : Math.abs(a - b) / Math.abs(b));
+
+for (const [problem, ka, kb] of PROBLEMS) {
+  // the exact inversion of the exact forward answer: the reference, and κ to select the states compared
+  const exactTargets = { [ka]: col(exactForward as never, ka), [kb]: col(exactForward as never, kb), ...composition };
+  const ex = invert(exactTargets as never, { components });
+  const wellConditioned = (i: number) => ex.converged[i] === 1 && ex.conditionNumber[i] <= KAPPA_MAX;
+  const selected = Array.from({ length: N }, (_, i) => i).filter(wellConditioned);
+
+  test(`${problem}: the table's own forward answer round-trips to 1e-12 (rounding floor where ill-conditioned), inside the table`, () => {
+    assert.ok(selected.length >= N / 2, `only ${selected.length} of ${N} states with κ ≤ ${KAPPA_MAX}`);
+    const input = { [ka]: col(forward as never, ka), [kb]: col(forward as never, kb), ...composition };
+    const r = invert(input as never, opts);
+    assert.equal(r.method, 'table');
+    const solved = problem.startsWith('density-') ? ['temperature'] : problem === 'pressure-temperature' ? ['density'] : ['density', 'temperature'];
+    let worst = 0;
+    for (const i of selected) {
+      assert.equal(r.converged[i], 1, `point ${i} (ρ=${density[i]}, T=${temperature[i]}): status ${r.status[i]} ${r.messages[i]}`);
+      const bound = Math.max(GOAL, FLOOR_ULPS * EPS * r.conditionNumber[i]);
+      for (const v of solved) {
+        const want = v === 'density' ? density[i] : temperature[i];
+        const got = (r as unknown as Record<string, Float64Array>)[v][i];
+        const e = rel(got, want);
+        assert.ok(e <= bound, `${v}[${i}]: ${got} vs ${want}, relative ${e} > ${bound} (κ = ${r.conditionNumber[i]})`);
+        if (r.conditionNumber[i] < 10) worst = Math.max(worst, e);
+      }
+    }
+    assert.ok(worst <= GOAL, `worst round trip at κ < 10: ${worst}`);
+  });
+
+  test(`${problem}: table and exact inversions of the same targets agree within the table's reported accuracy`, () => {
+    const tb = invert(exactTargets as never, opts);
+    // the exact state at the table's solution
+    const atTable = evaluate({ density: tb.density, temperature: tb.temperature, ...composition }, { components });
+    for (const i of selected) {
+      assert.equal(tb.converged[i], 1, `point ${i}: table status ${tb.status[i]} ${tb.messages[i]}`);
+      let given = 0;
+      for (const k of [ka, kb]) {
+        if (k === 'density' || k === 'temperature') continue;
+        const max = report.quantities[REPORT_KEY[k]].max;
+        given = Math.max(given, max);
+        const e = rel(col(atTable as never, k)[i], col(exactTargets as never, k)[i]);
+        assert.ok(e <= max, `${problem} point ${i}: exact ${k} at the table's solution is off by ${e} > report max ${max}`);
+      }
+      const bound = 2 * given * tb.conditionNumber[i] + Math.max(GOAL, FLOOR_ULPS * EPS * tb.conditionNumber[i]);
+      for (const v of ['density', 'temperature'] as const) {
+        const e = rel(tb[v][i], ex[v][i]);
+        assert.ok(e <= bound, `${problem} point ${i}: ${v} table ${tb[v][i]} vs exact ${ex[v][i]}: ${e} > ${bound}`);
+      }
+    }
+  });
+}
+
+test('pressure-temperature at the low-density edge: the search starts at the table\'s ρYe minimum, not the domain\'s', () => {
+  // ρ = 3e-12 g/cm³ with Ye = 0.5: ρYe = 1.5e-12, just inside the table; the domain's lower edge
+  // ρ = 1e-12 (ρYe = 5e-13) is outside it
+  const rho = [3e-12, 1e-11, 1e-10];
+  const T = [1e4, 2e4, 5e4]; // cold: the gas, not radiation, makes the pressure (κ ~ 1)
+  const f = evaluate({ density: rho, temperature: T, abar: 4, zbar: 2 }, opts);
+  const r = invert({ pressure: f.pressure, temperature: T, abar: 4, zbar: 2 }, opts);
+  assert.deepEqual(Array.from(r.status), [STATUS.OK, STATUS.OK, STATUS.OK], r.messages.join('; '));
+  r.density.forEach((d, i) => assert.ok(rel(d, rho[i]) <= Math.max(GOAL, FLOOR_ULPS * EPS * r.conditionNumber[i]), `density[${i}] ${d} vs ${rho[i]} (κ = ${r.conditionNumber[i]})`));
+});
+
+test('targets beyond the table and densities outside it: no-solution and TABLE_OUT_OF_RANGE statuses, never extrapolated', () => {
+  // (ρ, e): an energy only reached above the table's hottest T
+  const hot = evaluate({ density: 1, temperature: 10 ** g.logTemperatureMax * 1.5 > 1e13 ? 1e13 : 10 ** g.logTemperatureMax * 1.5, abar: 4, zbar: 2 }, { components });
+  const beyond = g.logTemperatureMax < 13 ? hot.specificEnergy[0] : hot.specificEnergy[0] * 10;
+  const r = invert({ density: [1, 1e-12], specificEnergy: [beyond, 1e10], abar: 4, zbar: 2 }, opts);
+  assert.equal(r.status[0], STATUS.NO_SOLUTION_ABOVE_DOMAIN, r.messages[0]);
+  assert.ok(Number.isNaN(r.temperature[0]));
+  assert.equal(r.status[1], STATUS.TABLE_OUT_OF_RANGE, r.messages[1]);
+  assert.ok(Number.isNaN(r.temperature[1]) && Number.isNaN(r.pressure[1]));
+});
