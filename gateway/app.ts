@@ -23,6 +23,9 @@ import { organisationRoutes } from './organisations/routes.js';
 import { accountResolvers } from './organisations/resolvers.js';
 import { keyAdminRoutes } from './keys/routes.js';
 import { keyResolvers } from './keys/resolvers.js';
+import { UsageService } from './usage/service.js';
+import { usageRoutes } from './usage/routes.js';
+import { usageResolvers } from './usage/resolvers.js';
 
 export interface AppDeps {
   config: Config;
@@ -76,18 +79,23 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
     maxThreads: config.EOS_POOL_MAX_THREADS,
     taskTimeoutMs: config.EOS_TASK_TIMEOUT_MS,
     maxPendingPoints: config.EOS_MAX_PENDING_POINTS,
+    tablePath: config.EOS_TABLE_PATH,
   });
   services.onClose(() => eosPool.close());
   services.metrics.attachPool(eosPool);
   const eosService = new EosService(eosPool, services.meter, config.EOS_CHUNK_POINTS);
   app.use('/v1/eos', eosRoutes(services, eosService));
 
+  // Usage: GET /v1/usage (key with usage:read, or a signed-in member) and GraphQL `usage`
+  const usageService = new UsageService(db);
+  app.use(usageRoutes(services, usageService));
+
   // Accounts: sign-up/in, sessions, organisations, members, invitations, audit log, key management
   app.use(authRoutes(services));
   app.use(organisationRoutes(services));
   app.use(keyAdminRoutes(services));
 
-  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services)]));
+  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services), usageResolvers(services, usageService)]));
 
   app.use(dashboardRoutes(config.DASHBOARD_DIR));
   app.use(notFound);

@@ -238,7 +238,7 @@ export class Meter {
   }
 }
 
-function nextPeriod(period: number): number {
+export function nextPeriod(period: number): number {
   const d = new Date(period);
   return Date.UTC(d.getUTCFullYear(), d.getUTCMonth() + 1, 1);
 }

@@ -90,6 +90,26 @@ export class Fixtures {
     });
   }
 
+  /**
+   * One usage_minutes row as the meter would write it: `buckets` maps latency-bucket index (see
+   * usage/latency-buckets.ts) to a count; their sum should equal `requests`.
+   */
+  async seedUsageRow(row: { organisationId: string; apiKeyId?: string; endpoint: string; minute: Date; requests: number; points: number; errors?: number; buckets: Partial<Record<number, number>> }): Promise<void> {
+    const counts = new Array<number>(LATENCY_BOUNDS_MS.length).fill(0);
+    for (const [i, n] of Object.entries(row.buckets)) counts[Number(i)] = n ?? 0;
+    await this.db('usage_minutes').insert({
+      organisation_id: row.organisationId,
+      api_key_id: row.apiKeyId ?? '',
+      endpoint: row.endpoint,
+      minute: row.minute,
+      requests: row.requests,
+      points: row.points,
+      errors: row.errors ?? 0,
+      latency_ms_sum: 0,
+      latency_buckets: counts,
+    });
+  }
+
   /** Usage rows of an organisation, summed per endpoint (excluding seeded rows). */
   async usage(organisationId: string): Promise<Map<string, { requests: number; points: number; errors: number }>> {
     const rows = await this.db('usage_minutes')
