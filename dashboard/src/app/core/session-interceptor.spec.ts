@@ -152,4 +152,16 @@ describe('sessionInterceptor', () => {
     await expect(attempt).rejects.toMatchObject({ status: 401 });
     backend.expectNone('/v1/auth/session/refresh');
   });
+  it('leaves a request with its own API key alone: no session token, no organisation, no refresh on 401', async () => {
+    await signIn('access-1');
+    const headers = { Authorization: 'Bearer fwk_test_key' };
+    const answer = firstValueFrom(http.post('/v1/eos/evaluate', {}, { headers }));
+    const call = backend.expectOne('/v1/eos/evaluate');
+    expect(call.request.headers.get('Authorization')).toBe('Bearer fwk_test_key');
+    expect(call.request.headers.has('Fermiwell-Organisation')).toBe(false);
+    call.flush({ type: '/problems/invalid-api-key', title: 'Invalid key', status: 401 }, { status: 401, statusText: 'Unauthorized' });
+    await expect(answer).rejects.toMatchObject({ status: 401 });
+    backend.expectNone('/v1/auth/session/refresh');
+    expect(session.signedIn()).toBe(true);
+  });
 });

@@ -27,12 +27,16 @@ function decorate(req: HttpRequest<unknown>, token: string | null, organisationI
 }
 
 /**
+ * Requests that already carry an Authorization header pass through untouched.
  * Adds `Authorization: Bearer <access token>` and `Fermiwell-Organisation` to /v1 calls. On a 401
  * it refreshes the session once (concurrent 401s share that refresh) and retries the request once
  * with the new token; when the refresh is refused the session is over: sign out, go to sign-in.
  */
 export const sessionInterceptor: HttpInterceptorFn = (req, next) => {
   if (!isApiCall(req.url)) return next(req);
+  // A request that brings its own credentials (the Probe's API key for /v1/eos/*) is sent as it is:
+  // no session token over it, no organisation header, no session refresh on its 401.
+  if (req.headers.has('Authorization')) return next(req);
   const session = inject(AuthSession);
   const tokenUsed = session.accessToken();
 
