@@ -40,6 +40,19 @@ describe('ProbePage', () => {
     return { fixture, page: fixture.componentInstance, el: fixture.nativeElement as HTMLElement, backend: TestBed.inject(HttpTestingController) };
   }
 
+  it('passes a key typed after the page opened on to the plots (their draw buttons enable)', async () => {
+    const { fixture, page, el } = await setup();
+    const drawButtons = () => [...el.querySelectorAll('fw-regime-map button, fw-state-curves button')].filter((b) => /Draw/.test(b.textContent ?? '')) as HTMLButtonElement[];
+    expect(page.apiKey()).toBe('');
+    expect(drawButtons().every((b) => b.disabled)).toBe(true);
+
+    page.form.controls.apiKey.setValue('fwk_abcdefgh_ABCDEFGHIJKLMNOPQRSTUVWXYZ012345');
+    await fixture.whenStable();
+    expect(page.apiKey()).toBe('fwk_abcdefgh_ABCDEFGHIJKLMNOPQRSTUVWXYZ012345');
+    expect(drawButtons().length).toBe(2);
+    expect(drawButtons().every((b) => !b.disabled)).toBe(true);
+  });
+
   it('shows the model caution and validates the forward form inline', async () => {
     const { fixture, page, el } = await setup();
     expect(el.textContent).toContain('fully ionized');

@@ -171,7 +171,11 @@ export class ProbePage {
   });
   readonly composition = computed(() => (this.compositionValid() ? compositionOf(this.value()) : null));
   readonly components = computed(() => selectedComponents(this.value()));
-  readonly apiKey = computed(() => (this.form.controls.apiKey.valid ? this.value().apiKey : ''));
+  readonly apiKey = computed(() => {
+    // read the form signal first: a computed that returns before reading a signal never updates
+    const { apiKey } = this.value();
+    return this.form.controls.apiKey.valid ? apiKey : '';
+  });
 
   readonly rows = computed(() => {
     const result = this.result();
