@@ -49,7 +49,7 @@
 // Quadrature rules, computed once at module load.
 
 /** Gauss–Legendre nodes and weights on [−1, 1] by Newton's method on the three-term recurrence. */
-function gaussLegendre(n: number): { x: Float64Array; w: Float64Array } {
+export function gaussLegendre(n: number): { x: Float64Array; w: Float64Array } {
   const x = new Float64Array(n);
   const w = new Float64Array(n);
   for (let i = 0; i < n; i++) {

@@ -32,7 +32,7 @@
 
 import { AVOGADRO, BOLTZMANN_K, ELECTRON_REST_ENERGY, PAIR_DENSITY_K } from './constants.js';
 import { createPairGasState, pairGas, PAIR_OK, type PairGasState } from './electron-positron.js';
-import { FD_ENTROPY, FD_ENTROPY_OFFSET, FD_FAST, FD_SECOND, FD_SET_LENGTH, SOMMERFELD_ETA, generalizedFermiDiracSet } from './fermi-dirac.js';
+import { gaussLegendre, FD_ENTROPY, FD_ENTROPY_OFFSET, FD_FAST, FD_SECOND, FD_SET_LENGTH, SOMMERFELD_ETA, generalizedFermiDiracSet } from './fermi-dirac.js';
 
 // ---------------------------------------------------------------------------------------------
 // Output layout of pairGasNode (all in CGS; d = ρYe in g/cm³, per unit "mass of ρYe" = per d).
@@ -69,30 +69,7 @@ const MEC2 = ELECTRON_REST_ENERGY;
 // Third-order integrals by quadrature
 
 const GL_N = 10;
-const GL_X = new Float64Array(GL_N);
-const GL_W = new Float64Array(GL_N);
-(function gaussLegendre(): void {
-  const n = GL_N;
-  for (let i = 0; i < n; i++) {
-    let z = Math.cos((Math.PI * (i + 0.75)) / (n + 0.5));
-    let dp = 1;
-    for (let it = 0; it < 100; it++) {
-      let p0 = 1;
-      let p1 = z;
-      for (let j = 2; j <= n; j++) {
-        const p2 = ((2 * j - 1) * z * p1 - (j - 1) * p0) / j;
-        p0 = p1;
-        p1 = p2;
-      }
-      dp = (n * (z * p1 - p0)) / (z * z - 1);
-      const dz = p1 / dp;
-      z -= dz;
-      if (Math.abs(dz) < 1e-16) break;
-    }
-    GL_X[i] = z;
-    GL_W[i] = 2 / ((1 - z * z) * dp * dp);
-  }
-})();
+const { x: GL_X, w: GL_W } = gaussLegendre(GL_N);
 
 /** Half-width of the y = x − η range (g ≤ e^{−|y|}). */
 const Y_RANGE = 50;
