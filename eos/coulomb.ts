@@ -46,6 +46,7 @@
  * 1e-15 to 1e12.
  */
 import { AVOGADRO, BOLTZMANN_K, ELEMENTARY_CHARGE } from './constants.js';
+import { createComponentTerms, type ComponentTerms } from './component-terms.js';
 
 export const OCP_A1 = -0.907;
 export const OCP_A2 = 0.62954;
@@ -178,30 +179,13 @@ export function electronCoupling(rho: number, T: number, ye: number): number {
 }
 
 /** Coulomb correction terms per unit mass (CGS). */
-export interface CoulombTerms {
-  pressure: number;
-  dPdRho: number;
-  dPdT: number;
-  dPdAbar: number;
-  dPdZbar: number;
-  energy: number;
-  dEdRho: number;
-  dEdT: number;
-  dEdAbar: number;
-  dEdZbar: number;
-  entropy: number;
-  dSdRho: number;
-  dSdT: number;
+export interface CoulombTerms extends ComponentTerms {
   /** Effective ion coupling ⟨Z^{5/3}⟩ Γ_e (number-weighted); Zbar^{5/3} Γ_e for one species. */
   gamma: number;
 }
 
 export function createCoulombTerms(): CoulombTerms {
-  return {
-    pressure: 0, dPdRho: 0, dPdT: 0, dPdAbar: 0, dPdZbar: 0,
-    energy: 0, dEdRho: 0, dEdT: 0, dEdAbar: 0, dEdZbar: 0,
-    entropy: 0, dSdRho: 0, dSdT: 0, gamma: 0,
-  };
+  return { ...createComponentTerms(), gamma: 0 };
 }
 
 const ocpScratch = createOcpValues();

@@ -13,32 +13,16 @@
  * where Coulomb coupling matters (added separately in coulomb.ts).
  */
 import { ATOMIC_MASS_UNIT, AVOGADRO, BOLTZMANN_K, HBAR } from './constants.js';
+import { createComponentTerms, type ComponentTerms } from './component-terms.js';
 
-/** Thermodynamic terms of one component, per unit mass (CGS). */
-export interface IonGasTerms {
-  pressure: number;
-  dPdRho: number;
-  dPdT: number;
-  dPdAbar: number;
-  dPdZbar: number;
-  energy: number;
-  dEdRho: number;
-  dEdT: number;
-  dEdAbar: number;
-  dEdZbar: number;
-  entropy: number;
-  dSdRho: number;
-  dSdT: number;
+/** The ion gas's terms, per unit mass (CGS). */
+export interface IonGasTerms extends ComponentTerms {
   /** Degeneracy measure n_i λ_i³ with λ_i = (2πħ²/(m_i k T))^{1/2}; ≳ 1 means quantum ions. */
   degeneracy: number;
 }
 
 export function createIonGasTerms(): IonGasTerms {
-  return {
-    pressure: 0, dPdRho: 0, dPdT: 0, dPdAbar: 0, dPdZbar: 0,
-    energy: 0, dEdRho: 0, dEdT: 0, dEdAbar: 0, dEdZbar: 0,
-    entropy: 0, dSdRho: 0, dSdT: 0, degeneracy: 0,
-  };
+  return { ...createComponentTerms(), degeneracy: 0 };
 }
 
 const R_GAS = AVOGADRO * BOLTZMANN_K;
