@@ -29,7 +29,7 @@ const ipKey = (req: Request) => ipKeyGenerator(req.ip ?? '0.0.0.0');
 
 export function authRateLimits(db: Knex, config: Config): AuthRateLimits {
   const stores: PostgresRateLimitStore[] = [];
-  const make = (name: string, windowMs: number, limit: number, keyGenerator: (req: Request) => string, extra: Partial<Options>, detail: (minutes: number) => string) => {
+  const make = (name: string, windowMs: number, limit: number, keyGenerator: (req: Request) => string, extra: Partial<Options>, detail: (until: string) => string) => {
     const store = new PostgresRateLimitStore(db, `${name}:`);
     stores.push(store);
     return rateLimit({
@@ -45,19 +45,24 @@ export function authRateLimits(db: Knex, config: Config): AuthRateLimits {
       ...extra,
       handler: (req, res, _next, options) => {
         const resetTime = (req as Request & { rateLimit?: { resetTime?: Date } }).rateLimit?.resetTime;
-        const minutes = Math.max(1, Math.ceil(((resetTime?.getTime() ?? Date.now() + options.windowMs) - Date.now()) / 60_000));
-        sendProblem(res, { type: PROBLEM_BASE + 'too-many-attempts', title: 'Too many attempts', status: 429, detail: detail(minutes), instance: req.originalUrl, retryAfterMinutes: minutes });
+        const reset = resetTime?.getTime() ?? Date.now() + options.windowMs;
+        const minutes = Math.max(1, Math.ceil((reset - Date.now()) / 60_000));
+        // The text names the window's end (the same instant for every key of that window), not a
+        // count of minutes from this request's arrival: two refusals a moment apart, for an address
+        // that exists and one that does not, must read the same.
+        const until = new Date(Math.ceil(reset / 60_000) * 60_000).toISOString().slice(11, 16) + ' UTC';
+        sendProblem(res, { type: PROBLEM_BASE + 'too-many-attempts', title: 'Too many attempts', status: 429, detail: detail(until), instance: req.originalUrl, retryAfterMinutes: minutes });
       },
     });
   };
   const signInWindow = config.SIGN_IN_WINDOW_MINUTES * 60_000;
-  const signInDetail = (m: number) => `Too many unsuccessful sign-ins. Wait ${m} minute(s) and try again, or choose a new password with "Forgotten password".`;
-  const mailDetail = (m: number) => `Too many requests for mail. Wait ${m} minute(s); the mail already sent stays valid.`;
+  const signInDetail = (until: string) => `Too many unsuccessful sign-ins. Try again after ${until}, or choose a new password with "Forgotten password".`;
+  const mailDetail = (until: string) => `Too many requests for mail. Try again after ${until}; the mail already sent stays valid.`;
   return {
     // only failures count: a user who signs in fine is never slowed down
     signInPerIp: make('signin-ip', signInWindow, config.SIGN_IN_FAILURES_PER_IP, ipKey, { skipSuccessfulRequests: true }, signInDetail),
     signInPerAccount: make('signin-account', signInWindow, config.SIGN_IN_FAILURES_PER_ACCOUNT, addressKey, { skipSuccessfulRequests: true }, signInDetail),
-    signUpPerIp: make('signup-ip', 3_600_000, config.SIGN_UPS_PER_IP, ipKey, {}, (m) => `Too many sign-ups from this network. Wait ${m} minute(s).`),
+    signUpPerIp: make('signup-ip', 3_600_000, config.SIGN_UPS_PER_IP, ipKey, {}, (until) => `Too many sign-ups from this network. Try again after ${until}.`),
     mailPerIp: make('mail-ip', 3_600_000, config.EMAIL_REQUESTS_PER_IP, ipKey, {}, mailDetail),
     mailPerAddress: make('mail-address', 3_600_000, config.EMAIL_REQUESTS_PER_ADDRESS, addressKey, {}, mailDetail),
     stores,
