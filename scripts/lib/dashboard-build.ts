@@ -1,5 +1,7 @@
 /**
  * Builds the dashboard (`ng build`) when dist/ is missing or older than any of its sources.
+ * FW_DASHBOARD_DIST puts the build elsewhere (e.g. one per working copy when several test runs share
+ * a checkout); the gateway then needs DASHBOARD_DIR=<that>/browser, which `npm test` sets.
  */
 import { spawn } from 'node:child_process';
 import fs from 'node:fs';
@@ -14,8 +16,12 @@ function newestMtime(entry: string): number {
   return newest;
 }
 
+export function dashboardDist(root: string): string {
+  return path.resolve(process.env['FW_DASHBOARD_DIST'] ?? path.join(root, 'dist', 'dashboard'));
+}
+
 export function dashboardIsStale(root: string): boolean {
-  const built = path.join(root, 'dist', 'dashboard', 'browser', 'index.html');
+  const built = path.join(dashboardDist(root), 'browser', 'index.html');
   if (!fs.existsSync(built)) return true;
   const builtAt = fs.statSync(built).mtimeMs;
   const sources = ['dashboard', 'angular.json', 'package-lock.json', 'schema'].map((p) => path.join(root, p));
@@ -27,7 +33,7 @@ export async function ensureDashboardBuilt(root: string, log: (line: string) => 
   log('building the dashboard (ng build; about a minute on 2 cores)…');
   const started = Date.now();
   await new Promise<void>((resolve, reject) => {
-    const child = spawn(process.execPath, [path.join(root, 'node_modules', '@angular', 'cli', 'bin', 'ng.js'), 'build'], {
+    const child = spawn(process.execPath, [path.join(root, 'node_modules', '@angular', 'cli', 'bin', 'ng.js'), 'build', `--output-path=${dashboardDist(root)}`], {
       cwd: root,
       stdio: ['ignore', 'inherit', 'inherit'],
       env: { ...process.env, NG_CLI_ANALYTICS: 'false' },
