@@ -26,6 +26,9 @@ import { keyResolvers } from './keys/resolvers.js';
 import { UsageService } from './usage/service.js';
 import { usageRoutes } from './usage/routes.js';
 import { usageResolvers } from './usage/resolvers.js';
+import { MixtureService } from './mixtures/service.js';
+import { mixtureRoutes } from './mixtures/routes.js';
+import { mixtureResolvers } from './mixtures/resolvers.js';
 
 export interface AppDeps {
   config: Config;
@@ -86,6 +89,11 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   const eosService = new EosService(eosPool, services.meter, config.EOS_CHUNK_POINTS);
   app.use('/v1/eos', eosRoutes(services, eosService));
 
+  // Mixtures: saved compositions, usable as { mixture: "<id>" } in every EOS request
+  const mixtureService = new MixtureService(db, services.access, services.audit);
+  eosService.useSavedMixtures((organisationId, id) => mixtureService.savedNuclides(organisationId, id));
+  app.use(mixtureRoutes(services, mixtureService));
+
   // Usage: GET /v1/usage (key with usage:read, or a signed-in member) and GraphQL `usage`
   const usageService = new UsageService(db);
   app.use(usageRoutes(services, usageService));
@@ -95,7 +103,7 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   app.use(organisationRoutes(services));
   app.use(keyAdminRoutes(services));
 
-  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services), usageResolvers(services, usageService)]));
+  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services), usageResolvers(services, usageService), mixtureResolvers(services, mixtureService)]));
 
   app.use(dashboardRoutes(config.DASHBOARD_DIR));
   app.use(notFound);

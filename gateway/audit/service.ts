@@ -37,6 +37,9 @@ export const AUDIT_ACTIONS = [
   'key.rotated',
   'key.revoked',
   'plan.changed',
+  'mixture.created',
+  'mixture.changed',
+  'mixture.deleted',
 ] as const;
 export type AuditAction = (typeof AUDIT_ACTIONS)[number];
 

@@ -13,7 +13,7 @@ export function eosResolvers(eos: EosService) {
     const endpoint = `graphql:${op}`;
     const startedAt = performance.now();
     const key = await ctx.apiKey('eos:evaluate', endpoint);
-    const answer = await eos.execute(key, () => eos.prepare(op, input, key.limits), {
+    const answer = await eos.execute(key, async () => eos.prepare(op, await eos.withSavedMixture(key.organisationId, input), key.limits), {
       endpoint,
       encoding: 'typed',
       signal: ctx.signal,

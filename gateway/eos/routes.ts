@@ -137,7 +137,12 @@ function handler(op: Operation, eos: EosService): RequestHandler {
     try {
       const answer = await eos.execute(
         key,
-        () => (binary ? eos.prepareBinary(op, binaryQuery(req.query), decodeColumns(req.body, list(req.query['inputs']) ?? []).columns, key.limits) : eos.prepare(op, jsonBody(req), key.limits)),
+        async () => {
+          if (!binary) return eos.prepare(op, await eos.withSavedMixture(key.organisationId, jsonBody(req)), key.limits);
+          const query = binaryQuery(req.query);
+          const columns = decodeColumns(req.body, list(req.query['inputs']) ?? []).columns;
+          return eos.prepareBinary(op, query, columns, key.limits, await eos.savedMixture(key.organisationId, query.mixture));
+        },
         { endpoint: state.endpoint, encoding: binary ? 'typed' : 'json', signal: abort.signal, mark: state.mark, startedAt: state.startedAt },
       );
       if (binary) sendBinary(res, answer);

@@ -198,12 +198,46 @@ function sliceColumn(col: InputColumn, start: number, end: number): Float64Array
   return out;
 }
 
+/** Looks up an organisation's saved mixture by id (gateway/mixtures); undefined when there is none. */
+export type SavedMixtureLookup = (organisationId: string, id: string) => Promise<ReadonlyArray<{ a: number; z: number; massFraction: number }> | undefined>;
+
 export class EosService {
+  private savedMixtures: SavedMixtureLookup | undefined;
+
   constructor(
     private readonly pool: EosPool,
     private readonly meter: Meter,
     private readonly chunkPoints: number,
   ) {}
+
+  /** Lets `{ "mixture": "<id>" }` name the caller's saved mixtures besides the built-in ones. */
+  useSavedMixtures(lookup: SavedMixtureLookup): void {
+    this.savedMixtures = lookup;
+  }
+
+  /**
+   * The nuclides of `mixture` when it names one of the organisation's saved mixtures; undefined for
+   * built-in names and absent values (prepare handles those); a 400 problem for unknown names.
+   */
+  async savedMixture(organisationId: string, mixture: string | null | undefined): Promise<Array<{ a: number; z: number; massFraction: number }> | undefined> {
+    if (mixture == null || findBuiltinMixture(mixture)) return undefined;
+    const nuclides = this.savedMixtures ? await this.savedMixtures(organisationId, mixture) : undefined;
+    if (!nuclides) {
+      throw invalidComposition(
+        `Unknown mixture "${mixture}": neither a built-in mixture (${BUILTIN_MIXTURE_NAMES.join(', ')}) nor a saved mixture of this organisation (list them with GET /v1/mixtures).`,
+        { mixtures: BUILTIN_MIXTURE_NAMES },
+      );
+    }
+    return nuclides.map(({ a, z, massFraction }) => ({ a, z, massFraction }));
+  }
+
+  /** The request with a saved mixture's id replaced by its nuclides (see savedMixture). */
+  async withSavedMixture<T extends EosRequest>(organisationId: string, req: T): Promise<T> {
+    const c = req?.composition;
+    if (!c || typeof c !== 'object' || typeof c.mixture !== 'string') return req;
+    const nuclides = await this.savedMixture(organisationId, c.mixture);
+    return nuclides ? { ...req, composition: { ...c, mixture: null, nuclides } } : req;
+  }
 
   // ── prepare ──────────────────────────────────────────────────────────────────────────────
 
@@ -302,7 +336,7 @@ export class EosService {
    * The binary form: input columns from the body as named by `inputs`, composition from columns
    * (abar, zbar), query numbers (abar, zbar) or a mixture name, output columns from `fields`.
    */
-  prepareBinary(op: Operation, query: BinaryQuery, columns: Record<string, Float64Array>, limits: PlanLimits): PreparedBatch {
+  prepareBinary(op: Operation, query: BinaryQuery, columns: Record<string, Float64Array>, limits: PlanLimits, savedNuclides?: ReadonlyArray<{ a: number; z: number; massFraction: number }>): PreparedBatch {
     const compositionColumns = ['abar', 'zbar'].filter((c) => c in columns);
     const sources = [compositionColumns.length > 0, query.abar !== undefined || query.zbar !== undefined, query.mixture !== undefined].filter(Boolean).length;
     if (sources !== 1) {
@@ -313,7 +347,7 @@ export class EosService {
       if (compositionColumns.length !== 2) throw invalid('The abar and zbar columns come together: name both in ?inputs=.');
       composition = { abar: columns['abar']!, zbar: columns['zbar']! };
     } else if (query.mixture !== undefined) {
-      composition = { mixture: query.mixture };
+      composition = savedNuclides ? { nuclides: savedNuclides } : { mixture: query.mixture };
     } else {
       if (query.abar === undefined || query.zbar === undefined) throw invalid('Give both abar and zbar in the query.');
       composition = { abar: query.abar, zbar: query.zbar };
@@ -418,10 +452,10 @@ export class EosService {
    * Prepares (throws 4xx, recorded as a rejected request), admits the points against the quota
    * (429, nothing billed), runs the batch and settles the usage record exactly once.
    */
-  async execute(key: ApiKeyContext, prepare: () => PreparedBatch, ctx: ExecuteContext): Promise<BatchAnswer> {
+  async execute(key: ApiKeyContext, prepare: () => PreparedBatch | Promise<PreparedBatch>, ctx: ExecuteContext): Promise<BatchAnswer> {
     let batch: PreparedBatch;
     try {
-      batch = prepare();
+      batch = await prepare();
     } catch (error) {
       this.recordRejected(key, ctx);
       throw error;

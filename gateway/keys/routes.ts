@@ -9,6 +9,7 @@ import type { Services } from '../services.js';
 import { parse } from '../shared/validate.js';
 import { requireSession, sessionOf } from '../auth/session.js';
 import { SCOPES } from './types.js';
+import { idempotency } from '../shared/idempotency.js';
 
 export const keyName = z.string().trim().min(1, 'must not be empty').max(80, 'must be at most 80 characters');
 export const newKeyBody = z
@@ -36,7 +37,7 @@ export function keyAdminRoutes(services: Services): Router {
     res.json({ items: await keyAdmin.list(actor(req, res), req.params['orgId'] as string) });
   });
 
-  router.post(base, session, noStore, async (req, res) => {
+  router.post(base, session, noStore, idempotency(services.db, { secretBearing: true }), async (req, res) => {
     const body = parse(newKeyBody, req.body);
     const created = await keyAdmin.create(actor(req, res), req.params['orgId'] as string, {
       name: body.name,
