@@ -1,7 +1,7 @@
 import { provideHttpClient, withInterceptors } from '@angular/common/http';
 import { HttpTestingController, provideHttpClientTesting } from '@angular/common/http/testing';
 import { TestBed } from '@angular/core/testing';
-import { provideRouter } from '@angular/router';
+import { ActivatedRoute, convertToParamMap, provideRouter } from '@angular/router';
 
 import { AuthSession } from '../core/auth-session';
 import { sessionInterceptor } from '../core/session-interceptor';
@@ -23,19 +23,27 @@ const answer: EvaluateResponse = {
   warnings: [{ point: 0, code: 'CRYSTALLIZED', message: 'Γ = 200 is above the melting value 175' }],
 };
 
+const SAVED = {
+  id: '7b0c4a3e-3c1e-4a55-9f0e-2f5b7d1e9a10', name: 'Helium shell', description: '', builtin: false,
+  nuclides: [{ nuclide: 'He4', a: 4, z: 2, massFraction: 1 }], abar: 4, zbar: 2, ye: 0.5, createdAt: null, updatedAt: null,
+};
+
 describe('ProbePage', () => {
-  async function setup() {
+  async function setup(query: Record<string, string> = {}) {
     TestBed.configureTestingModule({
       imports: [ProbePage],
       providers: [
         provideRouter([]),
+        { provide: ActivatedRoute, useValue: { snapshot: { queryParamMap: convertToParamMap(query) } } },
         provideHttpClient(withInterceptors([sessionInterceptor])),
         provideHttpClientTesting(),
-        { provide: AuthSession, useValue: fakeSession() },
+        { provide: AuthSession, useValue: fakeSession().fake },
       ],
     });
     await TestBed.compileComponents();
     const fixture = TestBed.createComponent(ProbePage);
+    await fixture.whenStable();
+    TestBed.inject(HttpTestingController).expectOne('/v1/mixtures').flush({ items: [SAVED] });
     await fixture.whenStable();
     return { fixture, page: fixture.componentInstance, el: fixture.nativeElement as HTMLElement, backend: TestBed.inject(HttpTestingController) };
   }
@@ -145,5 +153,16 @@ describe('ProbePage', () => {
     const { page, backend } = await setup();
     await page.send();
     backend.expectNone('/v1/eos/evaluate');
+  });
+
+  it("offers the organisation's saved mixtures and opens with the one named in ?mixture=", async () => {
+    const { page, backend } = await setup({ mixture: SAVED.id });
+    expect(page.savedMixtures().map((m) => m.id)).toEqual([SAVED.id]);
+    expect(page.form.controls.compositionKind.value).toBe('mixture');
+    page.form.controls.apiKey.setValue('fwk_abcdefgh_ABCDEFGHIJKLMNOPQRSTUVWXYZ012345');
+    void page.send();
+    const call = backend.expectOne('/v1/eos/evaluate');
+    expect(call.request.body).toMatchObject({ composition: { mixture: SAVED.id } });
+    call.flush(answer);
   });
 });

@@ -10,7 +10,7 @@ import { MatIcon } from '@angular/material/icon';
 import { MatInput } from '@angular/material/input';
 import { MatProgressSpinner } from '@angular/material/progress-spinner';
 import { MatRadioButton, MatRadioGroup } from '@angular/material/radio';
-import { MatOption, MatSelect } from '@angular/material/select';
+import { MatOptgroup, MatOption, MatSelect } from '@angular/material/select';
 import {
   MatCell,
   MatCellDef,
@@ -23,11 +23,13 @@ import {
   MatRowDef,
   MatTable,
 } from '@angular/material/table';
+import { ActivatedRoute } from '@angular/router';
 import { firstValueFrom, map, merge } from 'rxjs';
 
+import { type Mixture, MixturesApi } from '../core/mixtures-api';
 import { problemMessage } from '../core/problem';
 import { UnitValuePipe } from '../shared/unit-value';
-import { CompositionEditor, nuclideList } from './composition-editor';
+import { CompositionEditor, nuclideList } from '../shared/composition-editor';
 import { EosApi, ProbeKey, eosPath } from './eos-api';
 import {
   COMPONENTS,
@@ -91,6 +93,7 @@ interface ProbeResult {
     MatRadioGroup,
     MatRadioButton,
     MatSelect,
+    MatOptgroup,
     MatOption,
     MatTable,
     MatColumnDef,
@@ -111,8 +114,12 @@ export class ProbePage {
   private readonly api = inject(EosApi);
   private readonly probeKey = inject(ProbeKey);
   private readonly document = inject(DOCUMENT);
+  private readonly mixturesApi = inject(MixturesApi);
+  private readonly route = inject(ActivatedRoute);
 
   readonly mixtures = MIXTURES;
+  /** The organisation's saved mixtures (Mixtures page), offered beside the built-in ones. */
+  readonly savedMixtures = signal<readonly Mixture[]>([]);
   readonly pairs = INVERSE_PAIRS;
   readonly componentNames = COMPONENTS;
   readonly pickableFields = PICKABLE_FIELDS.map((f) => ({ id: f, label: STATE_FIELDS[f].label }));
@@ -222,7 +229,18 @@ export class ProbePage {
       controls.first.updateValueAndValidity();
       controls.second.updateValueAndValidity();
     };
+    // /probe?mixture=<id>: the Mixtures page's "Try in the Probe"
+    const asked = this.route.snapshot.queryParamMap.get('mixture');
+    if (asked) {
+      controls.compositionKind.setValue('mixture', { emitEvent: false });
+      controls.mixture.setValue(asked, { emitEvent: false });
+    }
     sync();
+    this.mixturesApi.list().subscribe({
+      next: (list) => this.savedMixtures.set(list.filter((m) => !m.builtin)),
+      // without the list the built-in mixtures still work; the Mixtures page shows the error
+      error: () => this.savedMixtures.set([]),
+    });
     const subs = [
       controls.mode.valueChanges.subscribe(sync),
       controls.compositionKind.valueChanges.subscribe(sync),

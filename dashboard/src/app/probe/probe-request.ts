@@ -1,6 +1,6 @@
 import { AbstractControl, ValidationErrors, ValidatorFn } from '@angular/forms';
 
-import { compositionStats } from './composition-editor';
+import { compositionStats } from '../shared/composition-editor';
 import {
   COMPONENTS,
   INVERSE_PAIRS,

@@ -15,7 +15,13 @@ import { MatIcon } from '@angular/material/icon';
 import { MatInput } from '@angular/material/input';
 
 import { formatNumber } from '../shared/unit-value';
-import type { Nuclide } from './eos-types';
+
+/** One nuclide of a composition: mass number A, charge Z, mass fraction X (as the API takes it). */
+export interface Nuclide {
+  a: number;
+  z: number;
+  massFraction: number;
+}
 
 export type NuclideRow = FormGroup<{ a: FormControl<number | null>; z: FormControl<number | null>; massFraction: FormControl<number | null> }>;
 
