@@ -5,7 +5,7 @@
  *
  * The context resolves the caller lazily: `apiKey(scope, endpoint)` authenticates the
  * `Authorization: Bearer fwk_…` header through the key service, checks the scope and the key's
- * per-second rate limit (the same shared counter as REST), once per HTTP request; fields that
+ * per-second rate limit (the same shared counter and RateLimit headers as REST), once per HTTP request; fields that
  * need a signed-in user (the account graph, later) will add their own resolver without touching
  * this one. Errors carry the REST problem kind in `extensions.code` and the problem itself in
  * `extensions.problem`. The landing page is off (it would load from a CDN); CSRF prevention is on.
@@ -22,6 +22,7 @@ import { repoRoot } from '../config.js';
 import type { Services } from '../services.js';
 import type { ApiKeyContext, Scope } from '../keys/types.js';
 import { ProblemError, PROBLEM_BASE } from '../shared/problem.js';
+import { setRateLimitHeaders } from '../usage/rate-limit.js';
 
 export const SDL_DIR = path.join(repoRoot, 'schema', 'graphql');
 /** GraphQL bodies are for interactive and moderate batches; large ones belong in REST binary. */
@@ -124,7 +125,9 @@ export async function graphqlRoutes(services: Services, resolvers: Resolvers[]):
               throw new ProblemError('insufficient-scope', 403, 'Scope missing', `Key ${key.keyId} lacks the "${scope}" scope; create a key with it.`, { requiredScope: scope });
             }
             rateChecked ??= (async () => {
-              const { totalHits } = await services.rateLimit.store.increment(key.keyId);
+              const { totalHits, resetTime } = await services.rateLimit.store.increment(key.keyId);
+              // the same RateLimit fields REST sends (IETF draft-8 form)
+              setRateLimitHeaders(res, key.keyId, key.limits.requestsPerSecond, totalHits, resetTime);
               if (totalHits > key.limits.requestsPerSecond) {
                 services.meter.recordRejected(key, endpoint, 0);
                 throw new ProblemError(

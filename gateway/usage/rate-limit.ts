@@ -3,21 +3,43 @@
  * with express-rate-limit and the shared PostgreSQL store. Runs after API-key authentication and is
  * keyed on the key id. Headers follow the IETF RateLimit header fields draft (draft-8 form).
  */
+import { createHash } from 'node:crypto';
+import type { Response } from 'express';
 import { rateLimit } from 'express-rate-limit';
 import type { Knex } from 'knex';
 import { sendProblem, PROBLEM_BASE } from '../shared/problem.js';
 import type { ApiKeyContext } from '../keys/types.js';
 import { PostgresRateLimitStore } from './rate-limit-store.js';
 
+/** The policy name in the RateLimit headers (express-rate-limit's `identifier`). */
+export const RATE_LIMIT_POLICY = 'per-key';
+export const RATE_LIMIT_WINDOW_MS = 1_000;
+
+/**
+ * The RateLimit and RateLimit-Policy fields of the IETF draft (draft-ietf-httpapi-ratelimit-headers-08),
+ * in the exact form express-rate-limit writes them for REST (`"per-key"; r=…; t=…` and
+ * `"per-key"; q=…; w=…; pk=:…:`), for callers that count outside it (GraphQL). The partition key
+ * is express-rate-limit's: base64 of the first 12 hex digits of SHA-256 of the key id.
+ */
+export function setRateLimitHeaders(res: Response, keyId: string, limit: number, hits: number, resetTime: Date | undefined): void {
+  if (res.headersSent) return;
+  const remaining = Math.max(0, limit - hits);
+  const reset = resetTime ? Math.max(0, Math.ceil((resetTime.getTime() - Date.now()) / 1000)) : Math.ceil(RATE_LIMIT_WINDOW_MS / 1000);
+  const pk = Buffer.from(createHash('sha256').update(keyId).digest('hex').slice(0, 12)).toString('base64');
+  res.setHeader('RateLimit', `"${RATE_LIMIT_POLICY}"; r=${remaining}; t=${reset}`);
+  res.setHeader('RateLimit-Policy', `"${RATE_LIMIT_POLICY}"; q=${limit}; w=${Math.ceil(RATE_LIMIT_WINDOW_MS / 1000)}; pk=:${pk}:`);
+  if (hits > limit) res.setHeader('Retry-After', String(reset));
+}
+
 export function keyRateLimit(db: Knex) {
   const store = new PostgresRateLimitStore(db);
   const middleware = rateLimit({
-    windowMs: 1_000,
+    windowMs: RATE_LIMIT_WINDOW_MS,
     limit: (_req, res) => (res.locals['apiKey'] as ApiKeyContext).limits.requestsPerSecond,
     keyGenerator: (_req, res) => (res.locals['apiKey'] as ApiKeyContext).keyId,
     standardHeaders: 'draft-8',
     legacyHeaders: false,
-    identifier: 'per-key',
+    identifier: RATE_LIMIT_POLICY,
     store,
     // a database hiccup must not take evaluation down: count locally and let the request through
     passOnStoreError: true,

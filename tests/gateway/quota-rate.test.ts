@@ -121,6 +121,21 @@ describe('per-key rate limit (Free: 10 requests per second)', () => {
     const codes = results.map((r) => r.body.errors?.[0]?.extensions?.['code'] ?? 'ok');
     assert.ok(codes.includes('rate-limited'), JSON.stringify(codes));
     assert.ok(codes.filter((c) => c === 'ok').length >= 10, 'ten went through');
+    // the same RateLimit fields as REST (IETF draft-ietf-httpapi-ratelimit-headers-08 form)
+    const served = results[codes.indexOf('ok')]!;
+    assert.match(served.headers.get('ratelimit-policy') ?? '', /^"per-key"; q=10; w=1; pk=:[A-Za-z0-9+/=]+:$/);
+    assert.match(served.headers.get('ratelimit') ?? '', /^"per-key"; r=\d+; t=\d+$/);
+    const limited = results[codes.indexOf('rate-limited')]!;
+    assert.match(limited.headers.get('ratelimit') ?? '', /r=0/);
+    assert.ok(Number(limited.headers.get('retry-after')) >= 0, 'Retry-After header');
+  });
+
+  test('GraphQL and REST write identical RateLimit-Policy fields for one key', async () => {
+    const key = await fx.keyOnPlan('free');
+    await startOfWindow();
+    const rest = await postJson(`${gateway.url}/v1/eos/evaluate`, key.token, body(1));
+    const gql = await graphql(gateway.url, key.token, 'query { evaluate(input: { density: 1e6, temperature: 1e8, composition: { mixture: "he4" }, fields: [pressure] }) { status } }');
+    assert.equal(rest.headers.get('ratelimit-policy'), gql.headers.get('ratelimit-policy'));
   });
 });
 
