@@ -9,6 +9,7 @@ import { parse } from '../shared/validate.js';
 import { ORGANISATION_ROLES } from '../shared/roles.js';
 import { ProblemError } from '../shared/problem.js';
 import { clientOf, requireSession, sessionFromRequest, sessionOf, setRefreshCookie } from '../auth/session.js';
+import { idempotency } from '../shared/idempotency.js';
 import { displayName, email, password, sessionBody } from '../auth/routes.js';
 import { actorOf } from '../auth/service.js';
 import { AUDIT_PAGE_MAX } from '../audit/service.js';
@@ -41,7 +42,7 @@ export function organisationRoutes(services: Services): Router {
     res.json({ items: query.all === 'true' ? await organisations.listAll(a) : await organisations.listMine(a) });
   });
 
-  router.post('/v1/organisations', session, async (req, res) => {
+  router.post('/v1/organisations', session, idempotency(services.db), async (req, res) => {
     const body = parse(z.object({ name: organisationName }), req.body);
     const created = await organisations.create(actor(req, res), body.name);
     res.status(201).location(`/v1/organisations/${created.id}`).json(created);
@@ -83,7 +84,7 @@ export function organisationRoutes(services: Services): Router {
     res.json({ items: await organisations.invitations(actor(req, res), req.params['orgId'] as string) });
   });
 
-  router.post('/v1/organisations/:orgId/invitations', session, async (req, res) => {
+  router.post('/v1/organisations/:orgId/invitations', session, idempotency(services.db), async (req, res) => {
     const body = parse(z.object({ email, role }).strict(), req.body);
     const invitation = await organisations.invite(actor(req, res), req.params['orgId'] as string, body.email, body.role);
     res.status(201).json(invitation);
