@@ -1,8 +1,9 @@
 /**
  * `npm test` after the installs (scripts/test.sh). Starts a throw-away PostgreSQL cluster (its own
  * folder .data/pg-test-<port> and its own port, so it runs beside `npm start`), migrates a test database,
- * builds the dashboard if stale, runs every layer — eos, gateway, dashboard (vitest), end-to-end
- * (Chromium) — and ends with the line "N passed, N failed" (", N skipped" when any were skipped;
+ * builds the dashboard if stale, runs every layer — eos, gateway, examples (the C, Fortran and
+ * Python clients compiled and run against a test gateway), dashboard (vitest), end-to-end (Chromium) —
+ * and ends with the line "N passed, N failed" (", N skipped" when any were skipped;
  * under CI a skipped test fails the run). Exit status 1 on any failure. The cluster is removed at
  * the end. The gateway and end-to-end layers get the default free-energy table in EOS_TABLE_PATH:
  * the cached file in <data dir>/tables/ (FW_DATA_DIR or .data/, shared with `npm start`), built
@@ -108,6 +109,7 @@ async function main() {
   const layers: Layer[] = [
     nodeTestLayer('eos', 'tests/eos'),
     nodeTestLayer('gateway', 'tests/gateway'),
+    nodeTestLayer('examples', 'tests/examples'),
     dashboardLayer,
     nodeTestLayer('e2e', 'tests/e2e'),
   ];
@@ -128,7 +130,7 @@ async function main() {
     process.exit(1);
   }
 
-  const needsDatabase = selected.some((l) => l.name === 'gateway' || l.name === 'e2e');
+  const needsDatabase = selected.some((l) => l.name === 'gateway' || l.name === 'examples' || l.name === 'e2e');
   const needsDashboard = selected.some((l) => l.name === 'e2e');
   let cluster: Cluster | undefined;
   let stopServices: (() => Promise<void>) | undefined;

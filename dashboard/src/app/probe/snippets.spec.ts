@@ -17,11 +17,13 @@ describe('snippet generator', () => {
       expect(text).toContain('c12-o16');
       expect(text).not.toContain('fwk_');
     }
-    expect(all.curl).toMatch(/curl -sS -X POST 'https:\/\/fermiwell\.test\/v1\/eos\/evaluate'/);
+    expect(all.curl).toMatch(/curl -sS --fail-with-body -X POST 'https:\/\/fermiwell\.test\/v1\/eos\/evaluate'/);
     expect(all.curl).toContain('Bearer $FERMIWELL_KEY');
     expect(all.typescript).toContain("method: 'POST'");
     expect(all.c).toContain('CURLOPT_POSTFIELDS');
-    expect(all.fortran).toContain('bind(C, name="fermiwell_post")');
+    expect(all.fortran).toContain('use fermiwell');
+    expect(all.fortran).toContain('fw_open(fw, url="https://fermiwell.test"');
+    expect(all.fortran).toContain('fw_post_json(fw, "/v1/eos/evaluate"');
   });
 
   it('curl sends the exact JSON body, shell-quoted', () => {
@@ -56,6 +58,11 @@ describe('snippet generator', () => {
     expect(JSON.parse(joined)).toEqual(request.body);
   });
 
+  it('C prints the problem+json of a refused request', () => {
+    expect(all.c).toContain('CURLOPT_WRITEFUNCTION');
+    expect(all.c).toContain('status == 200 ? stdout : stderr');
+  });
+
   it('Fortran doubles quotes and continues lines', () => {
     expect(renderSnippet('fortran', request)).toContain('""density"": [');
     expect(renderSnippet('fortran', request)).toContain('// &');
@@ -71,6 +78,6 @@ describe('Snippets component', () => {
     await fixture.whenStable();
     const el = fixture.nativeElement as HTMLElement;
     expect(el.textContent).toContain('Python');
-    expect(el.querySelector('pre')!.textContent).toContain('curl -sS -X POST');
+    expect(el.querySelector('pre')!.textContent).toContain('curl -sS --fail-with-body -X POST');
   });
 });
