@@ -22,7 +22,7 @@ import { Worker } from 'node:worker_threads';
 import { MODEL_VERSION } from '../eos/index.js';
 import { CONSTANTS_SET } from '../eos/constants.js';
 import {
-  accuracySamplePoints, ACCURACY_QUANTITIES, assembleTable, DEFAULT_TABLE_GRID, gridSize, summarizeAccuracy, validateGrid,
+  accuracySamplePoints, ACCURACY_QUANTITIES, assembleTable, DEFAULT_TABLE_GRID, gridSize, resolveGrid, summarizeAccuracy, validateGrid,
   TABLE_COLUMN_COUNT, TABLE_FORMAT_VERSION, type FreeEnergyTable, type TableGrid,
 } from '../eos/free-energy-table.js';
 import { readTable, writeTable, type BuildParameters } from './table-file.js';
@@ -74,10 +74,12 @@ const DEFAULT_SEED = 20000501;
 
 /** Cache key: the model, format, constants and grid — everything the table's numbers depend on. */
 export function tableCacheKey(grid: TableGrid = DEFAULT_TABLE_GRID, modelVersion = MODEL_VERSION): string {
-  const g = grid;
+  const g = resolveGrid(grid);
+  const b = g.refinedTemperature;
   const ident = JSON.stringify([
     modelVersion, TABLE_FORMAT_VERSION, CONSTANTS_SET,
     g.logDensityYeMin, g.logDensityYeMax, g.logTemperatureMin, g.logTemperatureMax, g.pointsPerDecadeDensity, g.pointsPerDecadeTemperature,
+    b ? [b.logTemperatureMin, b.logTemperatureMax, b.pointsPerDecade] : null,
   ]);
   return createHash('sha256').update(ident).digest('hex').slice(0, 20);
 }
@@ -86,8 +88,12 @@ export function tableCachePath(dataDir: string, grid: TableGrid = DEFAULT_TABLE_
   return path.join(path.resolve(dataDir), 'tables', `${tableCacheKey(grid)}.h5`);
 }
 
-function sameGrid(a: TableGrid, b: TableGrid): boolean {
-  return a.logDensityYeMin === b.logDensityYeMin && a.logDensityYeMax === b.logDensityYeMax && a.logTemperatureMin === b.logTemperatureMin
+function sameGrid(a0: TableGrid, b0: TableGrid): boolean {
+  const a = resolveGrid(a0), b = resolveGrid(b0);
+  const ba = a.refinedTemperature, bb = b.refinedTemperature;
+  const sameBand = ba === null || bb === null ? ba === bb
+    : ba.logTemperatureMin === bb.logTemperatureMin && ba.logTemperatureMax === bb.logTemperatureMax && ba.pointsPerDecade === bb.pointsPerDecade;
+  return sameBand && a.logDensityYeMin === b.logDensityYeMin && a.logDensityYeMax === b.logDensityYeMax && a.logTemperatureMin === b.logTemperatureMin
     && a.logTemperatureMax === b.logTemperatureMax && a.pointsPerDecadeDensity === b.pointsPerDecadeDensity
     && a.pointsPerDecadeTemperature === b.pointsPerDecadeTemperature;
 }
@@ -97,8 +103,8 @@ function sameGrid(a: TableGrid, b: TableGrid): boolean {
  * and written there first when no file matches the current model version.
  */
 export async function ensureFreeEnergyTable(opts: EnsureTableOptions): Promise<EnsuredTable> {
-  const grid = { ...(opts.grid ?? DEFAULT_TABLE_GRID) };
-  validateGrid(grid);
+  validateGrid(opts.grid ?? DEFAULT_TABLE_GRID);
+  const grid = resolveGrid(opts.grid ?? DEFAULT_TABLE_GRID);
   const log = opts.log ?? ((line: string) => console.log(line));
   const file = tableCachePath(opts.dataDir, grid);
   if (!opts.force && fs.existsSync(file)) {
@@ -113,7 +119,7 @@ export async function ensureFreeEnergyTable(opts: EnsureTableOptions): Promise<E
     }
   }
   const { nD, nT } = gridSize(grid);
-  log(`building the free-energy table: ${nD} × ${nT} nodes, log10 ρYe ∈ [${grid.logDensityYeMin}, ${grid.logDensityYeMax}], log10 T ∈ [${grid.logTemperatureMin}, ${grid.logTemperatureMax}], ${grid.pointsPerDecadeDensity} × ${grid.pointsPerDecadeTemperature} points per decade → ${file}`);
+  log(`building the free-energy table: ${nD} × ${nT} nodes, log10 ρYe ∈ [${grid.logDensityYeMin}, ${grid.logDensityYeMax}], log10 T ∈ [${grid.logTemperatureMin}, ${grid.logTemperatureMax}], ${grid.pointsPerDecadeDensity} × ${grid.pointsPerDecadeTemperature} points per decade${grid.refinedTemperature ? ` (${grid.refinedTemperature.pointsPerDecade} per decade in log10 T ∈ [${grid.refinedTemperature.logTemperatureMin}, ${grid.refinedTemperature.logTemperatureMax}])` : ''} → ${file}`);
   const { table, parameters } = await buildTableParallel(grid, opts);
   fs.mkdirSync(path.dirname(file), { recursive: true });
   const tmp = `${file}.tmp-${process.pid}-${Date.now()}`;

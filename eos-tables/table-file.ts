@@ -6,11 +6,13 @@
  *   /                       attributes: format, format_version, model_version, constants_set,
  *                           constants (JSON of eos/constants.ts's record), the grid
  *                           (log_density_ye_min/max, log_temperature_min/max,
- *                           points_per_decade_density/temperature, n_density, n_temperature),
+ *                           points_per_decade_density/temperature, n_density, n_temperature,
+ *                           refined_temperature_min/max/points_per_decade: the denser band of the
+ *                           piecewise-uniform T axis, NaN/NaN/0 when it is uniform),
  *                           built_at, build_seconds, build_workers, builder, build_parameters (JSON),
  *                           accuracy_report (JSON of the AccuracyReport, or "null"), index_order
  *   /grid/log_density_ye    float64 [n_density]     log10 of ρ·Ye in g/cm³ at the nodes
- *   /grid/log_temperature   float64 [n_temperature] log10 of T in K at the nodes
+ *   /grid/log_temperature   float64 [n_temperature] log10 of T in K at the nodes (uniform pieces)
  *   /columns/<name>         float64 [n_density, n_temperature], one per TABLE_COLUMNS entry
  *                           (physical d = ρYe and T derivatives), attribute `description`
  *   /accuracy               attributes <quantity>_max / _median / _p99 (relative errors), a
@@ -24,7 +26,7 @@
 import type H5wasm from 'h5wasm/node';
 import { constants as constantRecord } from '../eos/constants.js';
 import {
-  TABLE_COLUMNS, TABLE_FORMAT, TABLE_FORMAT_VERSION, gridSize, nodeLogDensityYe, nodeLogTemperature, prepareTable, validateGrid,
+  TABLE_COLUMNS, TABLE_FORMAT, TABLE_FORMAT_VERSION, gridSize, nodeLogDensityYe, nodeLogTemperature, prepareTable, resolveGrid, validateGrid,
   type AccuracyReport, type FreeEnergyTable, type TableColumnName, type TableGrid,
 } from '../eos/free-energy-table.js';
 
@@ -94,6 +96,11 @@ export async function writeTable(file: string, table: FreeEnergyTable, buildPara
     f.create_attribute('log_temperature_max', grid.logTemperatureMax);
     f.create_attribute('points_per_decade_density', grid.pointsPerDecadeDensity);
     f.create_attribute('points_per_decade_temperature', grid.pointsPerDecadeTemperature);
+    // the denser T band (format version 3): NaN bounds and 0 points per decade when the T axis is uniform
+    const band = resolveGrid(grid).refinedTemperature;
+    f.create_attribute('refined_temperature_min', band ? band.logTemperatureMin : NaN);
+    f.create_attribute('refined_temperature_max', band ? band.logTemperatureMax : NaN);
+    f.create_attribute('refined_temperature_points_per_decade', band ? band.pointsPerDecade : 0);
     f.create_attribute('n_density', nD, null, '<i4');
     f.create_attribute('n_temperature', nT, null, '<i4');
     f.create_attribute('built_at', table.build.builtAt);
@@ -194,6 +201,9 @@ export async function readTableWithInfo(file: string): Promise<{ table: FreeEner
       logTemperatureMax: num('log_temperature_max'),
       pointsPerDecadeDensity: num('points_per_decade_density'),
       pointsPerDecadeTemperature: num('points_per_decade_temperature'),
+      refinedTemperature: num('refined_temperature_points_per_decade') > 0
+        ? { logTemperatureMin: num('refined_temperature_min'), logTemperatureMax: num('refined_temperature_max'), pointsPerDecade: num('refined_temperature_points_per_decade') }
+        : null,
     };
     validateGrid(grid);
     const { nD, nT } = gridSize(grid);

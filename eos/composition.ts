@@ -80,6 +80,15 @@ export function broadcastLength(columns: ReadonlyArray<readonly [string, Column]
   return n;
 }
 
+/**
+ * A column of length n for reading only: the input itself when it already is a Float64Array of
+ * length n (no copy: the batch paths read their inputs once), else a copy as toFloat64Column.
+ */
+export function readFloat64Column(value: Column, n: number, name: string): Float64Array {
+  if (value instanceof Float64Array && value.length === n) return value;
+  return toFloat64Column(value, n, name);
+}
+
 /** Copy a column into a new Float64Array of length n, broadcasting a scalar or a length-1 array. */
 export function toFloat64Column(value: Column, n: number, name: string): Float64Array {
   const out = new Float64Array(n);
@@ -124,7 +133,7 @@ export function meanComposition(nuclides: readonly Nuclide[], options: { normali
   return { abar: r.abar[0], zbar: r.zbar[0], ye: r.ye[0] };
 }
 
-/** Per-point composition, ready for the equation-of-state kernels. */
+/** Per-point composition, ready for the equation-of-state kernels (read only: the columns may be the caller's input arrays). */
 export interface ResolvedComposition {
   n: number;
   abar: Float64Array;
@@ -146,10 +155,7 @@ export interface ResolvedComposition {
 
 /** Resolve a composition input to per-point columns of length n (broadcasting scalars). */
 export function resolveComposition(input: CompositionInput, n: number): ResolvedComposition {
-  const abar = new Float64Array(n);
-  const zbar = new Float64Array(n);
   const ye = new Float64Array(n);
-  const zmax = new Float64Array(n);
   const reason = new Uint8Array(n);
   const messages: string[] = new Array<string>(n).fill('');
   if (input === null || typeof input !== 'object') throw new Error('composition must be { abar, zbar } or { nuclides: [...] }');
@@ -159,14 +165,17 @@ export function resolveComposition(input: CompositionInput, n: number): Resolved
     if (mi.abar === undefined || mi.zbar === undefined) {
       throw new Error('composition must give both abar and zbar, or a nuclides list');
     }
-    const a = toFloat64Column(mi.abar, n, 'abar');
-    const z = toFloat64Column(mi.zbar, n, 'zbar');
+    // read-only views of the inputs where they already are Float64Arrays of length n (the columns
+    // of a ResolvedComposition are never written after this function)
+    const a = readFloat64Column(mi.abar, n, 'abar');
+    const z = readFloat64Column(mi.zbar, n, 'zbar');
+    const abar = a, zbar = z, zmax = z;
     for (let i = 0; i < n; i++) {
-      abar[i] = a[i];
-      zbar[i] = z[i];
-      ye[i] = z[i] / a[i];
-      zmax[i] = z[i];
-      const problem = meanCompositionProblem(a[i], z[i]);
+      const ai = a[i], zi = z[i];
+      ye[i] = zi / ai;
+      // inside the domain (the common case) without building a message
+      if (ai >= ABAR_MIN && ai <= ABAR_MAX && zi >= ZBAR_MIN && zi <= ai && zi <= ZBAR_MAX) continue;
+      const problem = meanCompositionProblem(ai, zi);
       if (problem !== null) {
         reason[i] = COMPOSITION_OUT_OF_DOMAIN;
         messages[i] = problem;
@@ -194,6 +203,9 @@ export function resolveComposition(input: CompositionInput, n: number): Resolved
     X.push(toFloat64Column(nu.massFraction, n, `nuclides[${j}].massFraction`));
   }
   const normalize = input.normalize === true;
+  const abar = new Float64Array(n);
+  const zbar = new Float64Array(n);
+  const zmax = new Float64Array(n);
   const y = new Float64Array(n * m);
   for (let i = 0; i < n; i++) {
     if (structural) {

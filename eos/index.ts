@@ -21,10 +21,10 @@ export {
 export { GAMMA_MELT, MADELUNG_BCC } from './coulomb.js';
 export {
   buildFreeEnergyTable, computeTableRows, assembleTable, prepareTable, tablePairGas, accuracySamplePoints, measureErrors,
-  summarizeAccuracy, gridSize, validateGrid, DEFAULT_TABLE_GRID, TABLE_COLUMNS, TABLE_FORMAT, TABLE_FORMAT_VERSION, ACCURACY_QUANTITIES,
-  type FreeEnergyTable, type TableGrid, type AccuracyReport, type AccuracyStats, type TableColumnName,
+  summarizeAccuracy, gridSize, validateGrid, resolveGrid, DEFAULT_TABLE_GRID, PAIR_ONSET_BAND, TABLE_COLUMNS, TABLE_FORMAT, TABLE_FORMAT_VERSION, ACCURACY_QUANTITIES,
+  type FreeEnergyTable, type TableGrid, type TemperatureBand, type AccuracyReport, type AccuracyStats, type TableColumnName,
 } from './free-energy-table.js';
 export * as constants from './constants.js';
 
-/** Version of the physics model; changes whenever a published number could change. */
-export const MODEL_VERSION = 'fermiwell-eos 1.0.0 (exact method; PC2000 liquid OCP; CODATA 2018)';
+/** Version of the physics model; changes whenever a published number could change (1.1.0: table method η, ∂P/∂ρ, n₊ from Boltzmann-referenced remainders; denser pair-onset T band). */
+export const MODEL_VERSION = 'fermiwell-eos 1.1.0 (exact method; PC2000 liquid OCP; CODATA 2018)';

@@ -58,9 +58,12 @@ export const NODE_PP = 17;
 export const NODE_UP = 21;
 /** Positron entropy density S₊ (and 3 derivatives). */
 export const NODE_SP = 25;
+/** ∂²η/∂d² and ∂³η/∂d²∂T (for the table's ∂P/∂d = N_A k T d η_d, interpolated as ln(d η_d)). */
+export const NODE_ETA_DD = 29;
+export const NODE_ETA_DDT = 30;
 /** Total pair-gas P, U, S per volume (as pairGas) with their d, T derivatives: P, P_d, P_T, U, U_d, U_T, S, S_d, S_T. */
-export const NODE_TOTALS = 29;
-export const NODE_LENGTH = 38;
+export const NODE_TOTALS = 31;
+export const NODE_LENGTH = 40;
 
 const K = PAIR_DENSITY_K;
 const MEC2 = ELECTRON_REST_ENERGY;
@@ -331,6 +334,8 @@ export function pairGasNode(d: number, T: number, out: Float64Array, etaGuess?: 
   out[NODE_ETA_D] = etaD;
   out[NODE_ETA_T] = etaT;
   out[NODE_ETA_DT] = etaDT;
+  out[NODE_ETA_DD] = etaDD;
+  out[NODE_ETA_DDT] = etaDDT;
   // positrons
   qX.fill(0);
   addSpecies(qX, spP, 0, true, true, 1, K, 1.5, beta, T);

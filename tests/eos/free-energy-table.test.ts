@@ -2,18 +2,19 @@
  * Free-energy table (Timmes & Swesty 2000, ApJS 126, 501): accuracy against the exact method at
  * seeded off-grid points (goals PHYSICS.md §7), Maxwell relations in table mode (Timmes & Arnett
  * 1999, ApJS 125, 277), the out-of-table status, and the analytic higher derivatives behind the
- * table (pair-gas-second-derivatives.ts). Uses a small table at the default density of points
- * (20 per decade) over sub-ranges (a non-degenerate one and the cold degenerate corner) where that
- * density meets the goals (see eos/README.md for where it does not: pair onset). Run: node --import tsx --test tests/eos/free-energy-table.test.ts
+ * table (pair-gas-second-derivatives.ts), the fused table loop of evaluate against the per-point
+ * kernel, and options.into. Uses small tables at the default density of points (20 per decade) over
+ * sub-ranges: a non-degenerate one, the cold degenerate corner and the pair onset (with the denser
+ * T band the builder puts there). Run: node --import tsx --test tests/eos/free-energy-table.test.ts
  */
 import { test } from 'node:test';
 import assert from 'node:assert/strict';
 import {
-  buildFreeEnergyTable, accuracySamplePoints, measureErrors, summarizeAccuracy, ACCURACY_QUANTITIES, type TableGrid,
+  buildFreeEnergyTable, accuracySamplePoints, measureErrors, summarizeAccuracy, gridSize, resolveGrid, validateGrid, ACCURACY_QUANTITIES, type TableGrid,
 } from '../../eos/free-energy-table.js';
 import { thirdOrderIntegrals, pairGasNode, NODE_LENGTH, NODE_FDTT, NODE_FDDTT, NODE_FDT, NODE_FDDT } from '../../eos/pair-gas-second-derivatives.js';
 import { generalizedFermiDiracSet, FD_SET_LENGTH } from '../../eos/fermi-dirac.js';
-import { evaluate, STATUS } from '../../eos/state.js';
+import { allocateResult, evaluate, failPoint, includeFlags, PointKernel, STATUS, storePoint } from '../../eos/state.js';
 
 const GRID: TableGrid = {
   logDensityYeMin: -6, logDensityYeMax: -2, logTemperatureMin: 4, logTemperatureMax: 7,
@@ -129,4 +130,83 @@ test('points outside the table grid get STATUS.TABLE_OUT_OF_RANGE and NaN, not e
   }
   assert.ok(r.pressure[0] > 0);
   assert.throws(() => evaluate({ density: 1, temperature: 1e6, abar: 1, zbar: 1 }, { method: 'table' }), /not available without a table/);
+});
+
+// The pair onset (T ≈ 1e8–1e10 K at low ρYe), where the pairs appear: the builder puts a denser
+// T band there (PAIR_ONSET_BAND, 60 per decade; 20 per decade gave P, e, s errors up to 6.6e-5).
+const ONSET_GRID: TableGrid = {
+  logDensityYeMin: -3, logDensityYeMax: 3, logTemperatureMin: 8, logTemperatureMax: 10,
+  pointsPerDecadeDensity: 20, pointsPerDecadeTemperature: 20,
+};
+const onsetTable = buildFreeEnergyTable(ONSET_GRID, { modelVersion: 'test', constantsSet: 'CODATA 2018' }, { randomPoints: 0, cellCentres: false });
+
+test('pair onset (log10 ρYe −3…3, log10 T 8–10; denser T band resolved from the coarse grid): P, e, s ≤ 1e-6 max (PHYSICS.md §7; its ≤ 1e-9 median is a whole-domain goal, checked on the default table), ≤ 1e-8 median here; ∂P/∂ρ, η ≤ 1e-5; Maxwell ≤ 1e-10 (our bounds, measured 5e-8 / 2e-9 / 1e-5 / 7e-6)', () => {
+  assert.deepEqual(onsetTable.grid.refinedTemperature, { logTemperatureMin: 8, logTemperatureMax: 10, pointsPerDecade: 60 });
+  assert.equal(onsetTable.nT, 120 + 1);
+  const pts = accuracySamplePoints(ONSET_GRID, 2500, 8, false);
+  const rep = summarizeAccuracy(measureErrors(onsetTable, pts), pts, 8, 0);
+  for (const k of ['pressure', 'energy', 'entropy']) {
+    assert.ok(rep.quantities[k].max <= 1e-6, `${k}: ${JSON.stringify(rep.quantities[k])}`);
+    assert.ok(rep.quantities[k].median <= 1e-8, `${k}: ${JSON.stringify(rep.quantities[k])}`);
+  }
+  for (const k of ['dPdD', 'eta']) assert.ok(rep.quantities[k].max <= 1e-5, `${k}: ${JSON.stringify(rep.quantities[k])}`);
+  assert.ok(rep.maxwellMax <= 1e-10, `Maxwell ${rep.maxwellMax}`);
+});
+
+test('resolveGrid: the pair-onset band snaps to the coarse axis and clips to the grid; null keeps the axis uniform; a bad band is refused', () => {
+  assert.deepEqual(resolveGrid({ ...GRID }).refinedTemperature, null); // [4, 7] misses [8, 10]
+  assert.deepEqual(resolveGrid({ ...ONSET_GRID, logTemperatureMin: 7.95, logTemperatureMax: 10.2, pointsPerDecadeTemperature: 20 }).refinedTemperature,
+    { logTemperatureMin: 8, logTemperatureMax: 10, pointsPerDecade: 60 });
+  assert.deepEqual(resolveGrid({ ...ONSET_GRID, logTemperatureMax: 9, pointsPerDecadeTemperature: 25 }).refinedTemperature,
+    { logTemperatureMin: 8, logTemperatureMax: 9, pointsPerDecade: 75 });
+  assert.equal(resolveGrid({ ...ONSET_GRID, pointsPerDecadeTemperature: 60 }).refinedTemperature, null);
+  assert.equal(gridSize({ ...ONSET_GRID, refinedTemperature: null }).nT, 41);
+  assert.throws(() => validateGrid({ ...ONSET_GRID, refinedTemperature: { logTemperatureMin: 8.01, logTemperatureMax: 9, pointsPerDecade: 60 } }), /nodes of the coarse T axis/);
+  assert.throws(() => validateGrid({ ...ONSET_GRID, refinedTemperature: { logTemperatureMin: 8, logTemperatureMax: 11, pointsPerDecade: 60 } }), /inside/);
+});
+
+test('method "table": the fused evaluate loop gives exactly what the per-point kernel (PointKernel + storePoint, used by invert) gives, every column', () => {
+  const n = 500;
+  const rho = new Float64Array(n), T = new Float64Array(n), abar = new Float64Array(n), zbar = new Float64Array(n);
+  let s = 777;
+  const rnd = () => ((s = (s * 1103515245 + 12345) % 2147483648) / 2147483648);
+  for (let i = 0; i < n; i++) {
+    abar[i] = 1 + 55 * rnd();
+    zbar[i] = 1 + (Math.min(abar[i], 26) - 1) * rnd();
+    rho[i] = 10 ** (-3.2 + 6.4 * rnd()) / (zbar[i] / abar[i]);
+    T[i] = 10 ** (7.9 + 2.2 * rnd());
+  }
+  rho[0] = -1; // a bad point and one outside the table keep their statuses
+  rho[1] = 1e9;
+  for (const components of [undefined, ['electrons', 'ions', 'coulomb']] as const) {
+    for (const soundSpeed of ['newtonian', 'relativistic'] as const) {
+      const opts = { method: 'table' as const, table: onsetTable, maxwellResiduals: true, components, soundSpeed };
+      const fused = evaluate({ density: rho, temperature: T, abar, zbar }, opts);
+      const inc = includeFlags(components);
+      const ref = allocateResult(n, fused.included, true);
+      ref.method = 'table';
+      const kernel = new PointKernel(inc, onsetTable);
+      for (let i = 0; i < n; i++) {
+        ref.density[i] = rho[i]; ref.temperature[i] = T[i]; ref.abar[i] = abar[i]; ref.zbar[i] = zbar[i]; ref.ye[i] = zbar[i] / abar[i];
+        if (fused.status[i] !== STATUS.OK) {
+          failPoint(ref, i, fused.status[i], fused.messages[i]);
+          continue;
+        }
+        assert.equal(kernel.compute(rho[i], T[i], abar[i], zbar[i], null, i), STATUS.OK);
+        storePoint(ref, i, kernel, zbar[i], soundSpeed === 'relativistic');
+      }
+      assert.deepEqual(Array.from(fused.status.subarray(0, 2)), [STATUS.DENSITY_NOT_POSITIVE, STATUS.TABLE_OUT_OF_RANGE]);
+      assert.deepEqual(fused, ref);
+    }
+  }
+});
+
+test('options.into: a second batch written into the first result equals a fresh evaluate; a result of another size is refused', () => {
+  const inp1 = { density: [1e-2, 1, 3e2], temperature: [2e8, 5e9, 1e10], abar: 12, zbar: 6 };
+  const inp2 = { density: [5e-3, -1, 10], temperature: [1e9, 1e9, 3e8], abar: [4, 4, 56], zbar: [2, 2, 26] };
+  const first = evaluate(inp1, { method: 'table', table: onsetTable });
+  const again = evaluate(inp2, { method: 'table', table: onsetTable, into: first });
+  assert.equal(again, first);
+  assert.deepEqual(again, evaluate(inp2, { method: 'table', table: onsetTable }));
+  assert.throws(() => evaluate({ ...inp1, density: [1, 2] , temperature: 1e9 }, { method: 'table', table: onsetTable, into: first }), /options.into/);
 });

@@ -67,7 +67,8 @@ test('h5dump -H (Debian hdf5-tools) reads the file and lists our datasets and at
   assert.match(out, new RegExp(`DATASET "log_density_ye" \\{[^}]*\\( ${table.nD} \\)`));
   assert.match(out, new RegExp(`DATASET "log_temperature" \\{[^}]*\\( ${table.nT} \\)`));
   for (const a of ['format', 'format_version', 'model_version', 'constants_set', 'constants', 'log_density_ye_min', 'log_density_ye_max', 'log_temperature_min',
-    'log_temperature_max', 'points_per_decade_density', 'points_per_decade_temperature', 'built_at', 'build_seconds', 'build_parameters', 'accuracy_report',
+    'log_temperature_max', 'points_per_decade_density', 'points_per_decade_temperature', 'refined_temperature_min', 'refined_temperature_max',
+    'refined_temperature_points_per_decade', 'built_at', 'build_seconds', 'build_parameters', 'accuracy_report',
     'pressure_max', 'energy_median', 'entropy_p99', 'description']) {
     assert.match(out, new RegExp(`ATTRIBUTE "${a}"`), `attribute ${a}`);
   }
@@ -86,4 +87,24 @@ test('readTable names the file and the problem when the file is not a table', as
   f.create_attribute('something', 'else');
   f.close();
   await assert.rejects(readTable(bad), (e: Error) => e.message.includes(bad) && /attribute "format" missing/.test(e.message));
+});
+
+test('a table with the denser pair-onset T band (format version 3) round-trips: the band attributes, the piecewise node temperatures, evaluate identical', async () => {
+  const grid: TableGrid = {
+    logDensityYeMin: -1, logDensityYeMax: 0, logTemperatureMin: 9.8, logTemperatureMax: 10.2,
+    pointsPerDecadeDensity: 10, pointsPerDecadeTemperature: 10,
+  };
+  const banded = buildFreeEnergyTable(grid, { modelVersion: 'table-file test', constantsSet: 'CODATA 2018' }, { randomPoints: 50, seed: 3 });
+  assert.deepEqual(banded.grid.refinedTemperature, { logTemperatureMin: 9.8, logTemperatureMax: 10, pointsPerDecade: 60 });
+  assert.equal(banded.nT, 12 + 2 + 1);
+  const bandFile = path.join(dir, 'banded.h5');
+  await writeTable(bandFile, banded);
+  const back = await readTable(bandFile);
+  assert.deepEqual(back.grid, banded.grid);
+  const lt = execFileSync('h5dump', ['-d', '/grid/log_temperature', '-m', '%.4f', bandFile], { encoding: 'utf8' });
+  const values = [...lt.matchAll(/\(\d+\): ([\d.]+)/g)].map((m) => m[1]);
+  assert.deepEqual(values, ['9.8000', '9.8167', '9.8333', '9.8500', '9.8667', '9.8833', '9.9000', '9.9167', '9.9333', '9.9500', '9.9667', '9.9833', '10.0000', '10.1000', '10.2000']);
+  assert.match(execFileSync('h5dump', ['-a', '/refined_temperature_points_per_decade', bandFile], { encoding: 'utf8' }), /\(0\): 60\b/);
+  const inp = { density: [0.5, 1.5, 1.9], temperature: [6.5e9, 1.05e10, 1.5e10], abar: 2, zbar: 1 };
+  assert.deepEqual(evaluate(inp, { method: 'table', table: back }), evaluate(inp, { method: 'table', table: banded }));
 });
