@@ -29,6 +29,8 @@ import { usageResolvers } from './usage/resolvers.js';
 import { MixtureService } from './mixtures/service.js';
 import { mixtureRoutes } from './mixtures/routes.js';
 import { mixtureResolvers } from './mixtures/resolvers.js';
+import { billingRoutes } from './billing/routes.js';
+import { billingResolvers } from './billing/resolvers.js';
 
 export interface AppDeps {
   config: Config;
@@ -103,7 +105,10 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   app.use(organisationRoutes(services));
   app.use(keyAdminRoutes(services));
 
-  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services), usageResolvers(services, usageService), mixtureResolvers(services, mixtureService)]));
+  // Plan & billing: plans, plan changes, test-mode card, invoices (Stripe SDK) and the provider's signed webhook
+  app.use(billingRoutes(services));
+
+  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services), usageResolvers(services, usageService), mixtureResolvers(services, mixtureService), billingResolvers(services)]));
 
   app.use(dashboardRoutes(config.DASHBOARD_DIR));
   app.use(notFound);

@@ -75,6 +75,16 @@ const schema = z.object({
   MAIL_FROM: z.string().min(3).default('Fermiwell <no-reply@fermiwell.example>'),
   /** The local catcher's web inbox (set by npm start / npm test); shown, never used by the product. */
   MAIL_INBOX_URL: z.url().optional(),
+
+  // ── Billing (gateway/billing): the official Stripe SDK; npm start / npm test point it at the local fake ──
+  /** Stripe secret key (sk_test_… or sk_live_…). Never defaulted in code; unset: billing answers 503 billing-not-configured. */
+  STRIPE_SECRET_KEY: z.string().regex(/^(sk|rk)_(test|live)_\w+$/, 'STRIPE_SECRET_KEY must look like sk_test_… or sk_live_…').optional(),
+  /** Where the Stripe API is; unset: Stripe itself. npm start / npm test set the local payments fake. */
+  STRIPE_API_URL: z.url({ error: 'STRIPE_API_URL must be an absolute URL such as http://127.0.0.1:12111' }).optional(),
+  /** Signing secret of the webhook endpoint (whsec_…); unset: POST /v1/billing/webhooks answers 503. */
+  STRIPE_WEBHOOK_SECRET: z.string().min(8).optional(),
+  /** How often each instance applies plan changes that fell due (downgrades and cancellations at period end). */
+  BILLING_SWEEP_INTERVAL_MS: z.coerce.number().int().min(1_000).default(60_000),
 }).superRefine((config, ctx) => {
   if (config.NODE_ENV === 'production' && !config.SMTP_HOST) {
     ctx.addIssue({ code: 'custom', path: ['SMTP_HOST'], message: 'SMTP_HOST is required in production (the relay for verification, reset and invitation mail)' });

@@ -16,6 +16,10 @@ import { OrganisationService } from './organisations/service.js';
 import { AuthService } from './auth/service.js';
 import { authRateLimits, type AuthRateLimits } from './auth/rate-limits.js';
 import { KeyManagement } from './keys/management.js';
+import { BillingService } from './billing/service.js';
+import { BillingWebhooks } from './billing/webhooks.js';
+import { QuotaMails } from './billing/quota-mail.js';
+import { createPaymentProvider } from './billing/stripe-client.js';
 
 export interface Services {
   config: Config;
@@ -33,6 +37,9 @@ export interface Services {
   authLimits: AuthRateLimits;
   organisations: OrganisationService;
   keyAdmin: KeyManagement;
+  // billing (issue 7): plans, card, invoices through the payment provider; its webhook events
+  billing: BillingService;
+  billingWebhooks: BillingWebhooks;
   /** Extra closers registered by features (e.g. the EOS worker pool). */
   onClose(fn: () => Promise<void>): void;
   close(): Promise<void>;
@@ -52,6 +59,9 @@ export function createServices(config: Config, db: Knex, logger: Logger): Servic
   const authLimits = authRateLimits(db, config);
   const organisations = new OrganisationService(db, config, access, audit, mailer, keys);
   const keyAdmin = new KeyManagement(keys, access, audit, config);
+  const billing = new BillingService(db, config, createPaymentProvider(config), access, audit, mailer, keys, logger.child({ component: 'billing' }));
+  const billingWebhooks = new BillingWebhooks(db, billing, keys, audit, logger.child({ component: 'billing-webhooks' }));
+  meter.observeQuota(new QuotaMails(db, () => billing, `${config.PUBLIC_URL}/usage`, logger.child({ component: 'quota-mail' })).observe);
   return {
     config,
     db,
@@ -67,9 +77,12 @@ export function createServices(config: Config, db: Knex, logger: Logger): Servic
     authLimits,
     organisations,
     keyAdmin,
+    billing,
+    billingWebhooks,
     onClose: (fn) => closers.push(fn),
     async close() {
       for (const fn of closers.reverse()) await fn().catch((error) => logger.error({ err: error }, 'close failed'));
+      billing.close();
       await meter.close();
       await keys.close();
       await rateLimit.store.shutdown();

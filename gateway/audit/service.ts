@@ -37,6 +37,7 @@ export const AUDIT_ACTIONS = [
   'key.rotated',
   'key.revoked',
   'plan.changed',
+  'billing.card-changed',
   'mixture.created',
   'mixture.changed',
   'mixture.deleted',

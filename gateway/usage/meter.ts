@@ -48,6 +48,13 @@ export interface Ticket {
   fail(latencyMs: number): void;
 }
 
+/**
+ * Told of an organisation's use this period after each admitted request succeeds, and when one is
+ * refused over quota (billing/quota-mail.ts sends the 80 % and 100 % mails from it). Synchronous
+ * and cheap: the observer does its own I/O later.
+ */
+export type QuotaObserver = (use: { organisationId: string; plan: string; used: number; quota: number; periodStart: number; refused: boolean }) => void;
+
 export interface MeterStats {
   lastFlushAt: number;
   lastFlushMs: number;
@@ -66,6 +73,7 @@ export class Meter {
   private readonly orgUse = new Map<string, OrgUse>();
   private readonly timer: NodeJS.Timeout;
   private flushing: Promise<void> | undefined;
+  private quotaObserver: QuotaObserver | undefined;
   readonly stats: MeterStats = { lastFlushAt: Date.now(), lastFlushMs: 0, pendingCells: 0, flushFailures: 0 };
 
   constructor(private readonly db: Knex, private readonly onPoints?: (points: number, endpoint: string) => void) {
@@ -83,6 +91,7 @@ export class Meter {
     if (used + points > key.limits.pointsPerMonth) {
       const left = Math.max(0, key.limits.pointsPerMonth - used);
       this.record(key.organisationId, key.keyId, endpoint, 0, true, 0);
+      this.quotaObserver?.({ organisationId: key.organisationId, plan: key.limits.plan, used, quota: key.limits.pointsPerMonth, periodStart: use.period, refused: true });
       throw new ProblemError(
         'quota-exceeded',
         429,
@@ -100,6 +109,7 @@ export class Meter {
         use.inFlight -= points;
         use.committed += points;
         this.record(key.organisationId, key.keyId, endpoint, points, false, latencyMs);
+        this.quotaObserver?.({ organisationId: key.organisationId, plan: key.limits.plan, used: use.base + use.committed + use.inFlight, quota: key.limits.pointsPerMonth, periodStart: use.period, refused: false });
       },
       fail: (latencyMs) => {
         if (settled) return;
@@ -108,6 +118,11 @@ export class Meter {
         this.record(key.organisationId, key.keyId, endpoint, 0, true, latencyMs);
       },
     };
+  }
+
+  /** Registers the one observer of quota use (billing's quota mails). */
+  observeQuota(observer: QuotaObserver): void {
+    this.quotaObserver = observer;
   }
 
   /** Records a request that was not admitted (e.g. refused as a bad request). */

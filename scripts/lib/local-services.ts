@@ -5,13 +5,14 @@
  * Their issues add them to LOCAL_SERVICES.
  */
 import { mailCatcher } from './mail-catcher.js';
+import { paymentsFake } from './payments-fake.js';
 
 export interface LocalService {
   name: string;
   start(options: { dataDir: string; test: boolean }): Promise<{ env: Record<string, string>; url?: string; stop(): Promise<void> }>;
 }
 
-export const LOCAL_SERVICES: LocalService[] = [mailCatcher];
+export const LOCAL_SERVICES: LocalService[] = [mailCatcher, paymentsFake];
 
 export async function startLocalServices(options: { dataDir: string; test: boolean }, log: (line: string) => void) {
   const env: Record<string, string> = {};
