@@ -26,6 +26,9 @@ import { keyResolvers } from './keys/resolvers.js';
 import { UsageService } from './usage/service.js';
 import { usageRoutes } from './usage/routes.js';
 import { usageResolvers } from './usage/resolvers.js';
+import { OperatorService } from './operator/service.js';
+import { operatorRoutes } from './operator/routes.js';
+import { operatorResolvers } from './operator/resolvers.js';
 import { MixtureService } from './mixtures/service.js';
 import { mixtureRoutes } from './mixtures/routes.js';
 import { mixtureResolvers } from './mixtures/resolvers.js';
@@ -108,7 +111,11 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   // Plan & billing: plans, plan changes, test-mode card, invoices (Stripe SDK) and the provider's signed webhook
   app.use(billingRoutes(services));
 
-  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services), usageResolvers(services, usageService), mixtureResolvers(services, mixtureService), billingResolvers(services)]));
+  // Operator page: every organisation's plan, limits and usage; limit overrides; service health
+  const operatorService = new OperatorService(services);
+  app.use(operatorRoutes(services, operatorService));
+
+  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services), usageResolvers(services, usageService), operatorResolvers(services, operatorService), mixtureResolvers(services, mixtureService), billingResolvers(services)]));
 
   app.use(dashboardRoutes(config.DASHBOARD_DIR));
   app.use(notFound);

@@ -21,7 +21,8 @@ export function dashboardRoutes(dir: string): Router {
       return;
     }
     res.setHeader('Cache-Control', 'no-cache');
-    res.sendFile(index);
+    // relative to `root`: send() refuses a path with a dot-folder in it (e.g. FW_DASHBOARD_DIST under .data/)
+    res.sendFile('index.html', { root: dir });
   });
   return router;
 }

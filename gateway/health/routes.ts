@@ -16,20 +16,31 @@ export function healthRoutes(db: Knex): Router {
   });
 
   router.get('/readyz', async (_req, res) => {
-    const checks: Record<string, { ok: boolean; detail?: string }> = {};
-    try {
-      await withTimeout(db.raw('select 1'), 2_000);
-      checks['database'] = { ok: true };
-      const pending = await withTimeout(pendingMigrations(db), 2_000);
-      checks['migrations'] = pending.length === 0 ? { ok: true } : { ok: false, detail: `pending: ${pending.join(', ')}` };
-    } catch (error) {
-      checks['database'] = { ok: false, detail: error instanceof Error ? error.message : String(error) };
-    }
-    const ready = Object.values(checks).every((c) => c.ok) && 'migrations' in checks;
-    res.status(ready ? 200 : 503).json({ ready, checks });
+    const answer = await readiness(db);
+    res.status(answer.ready ? 200 : 503).json(answer);
   });
 
   return router;
+}
+
+export interface Readiness {
+  ready: boolean;
+  checks: Record<string, { ok: boolean; detail?: string }>;
+}
+
+/** The /readyz answer (also shown on the Operator page): database reachable and schema current. */
+export async function readiness(db: Knex): Promise<Readiness> {
+  const checks: Record<string, { ok: boolean; detail?: string }> = {};
+  try {
+    await withTimeout(db.raw('select 1'), 2_000);
+    checks['database'] = { ok: true };
+    const pending = await withTimeout(pendingMigrations(db), 2_000);
+    checks['migrations'] = pending.length === 0 ? { ok: true } : { ok: false, detail: `pending: ${pending.join(', ')}` };
+  } catch (error) {
+    checks['database'] = { ok: false, detail: error instanceof Error ? error.message : String(error) };
+  }
+  const ready = Object.values(checks).every((c) => c.ok) && 'migrations' in checks;
+  return { ready, checks };
 }
 
 function withTimeout<T>(promise: Promise<T>, ms: number): Promise<T> {

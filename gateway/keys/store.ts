@@ -1,6 +1,7 @@
 /** SQL for API keys (knex, bindings only). */
 import type { Knex } from 'knex';
 import type { PlanRow } from '../plans/store.js';
+import { EFFECTIVE_LIMIT_SQL } from '../operator/store.js';
 
 export interface ApiKeyRow {
   id: string;
@@ -25,11 +26,13 @@ export async function findKeyWithPlan(db: Knex, id: string): Promise<ApiKeyWithP
   const row = await db('api_keys as k')
     .join('organisations as o', 'o.id', 'k.organisation_id')
     .join('plans as p', 'p.id', 'o.plan_id')
+    // an operator's per-organisation overrides (migration 007) take the place of plan values
+    .leftJoin('organisation_limit_overrides as x', 'x.organisation_id', 'o.id')
     .where('k.id', id)
     .first(
       'k.*',
       db.raw(
-        "json_build_object('id', p.id, 'name', p.name, 'price_cents', p.price_cents, 'currency', p.currency, 'points_per_month', p.points_per_month, 'requests_per_second', p.requests_per_second, 'max_batch', p.max_batch, 'table_builds_per_month', p.table_builds_per_month) as plan",
+        `json_build_object('id', p.id, 'name', p.name, 'price_cents', p.price_cents, 'currency', p.currency, 'points_per_month', ${EFFECTIVE_LIMIT_SQL.points_per_month}, 'requests_per_second', ${EFFECTIVE_LIMIT_SQL.requests_per_second}, 'max_batch', ${EFFECTIVE_LIMIT_SQL.max_batch}, 'table_builds_per_month', ${EFFECTIVE_LIMIT_SQL.table_builds_per_month}) as plan`,
       ),
     );
   return row as ApiKeyWithPlan | undefined;

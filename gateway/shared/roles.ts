@@ -48,6 +48,7 @@ organisation.rename            .       .         .        x      .      rename t
 organisation.delete            .       .         .        x      .      delete the organisation and everything in it
 plans.manage                   .       .         .        .      x      edit plans; set any organisation's plan (platform)
 organisations.list-all         .       .         .        .      x      list every organisation (platform)
+platform.health                .       .         .        .      x      service health and key metrics (platform)
 `;
 
 const COLUMNS = ['viewer', 'developer', 'maintainer', 'owner', 'operator'] as const;
@@ -79,6 +80,7 @@ export const ACTIONS = [
   'eos.evaluate', 'keys.create', 'keys.manage-own', 'keys.manage-any', 'jobs.create', 'jobs.manage', 'mixtures.manage',
   'invitations.read', 'members.invite.viewer', 'members.invite.developer', 'members.invite.maintainer', 'members.invite.owner',
   'members.manage', 'audit.read', 'billing.manage', 'organisation.rename', 'organisation.delete', 'plans.manage', 'organisations.list-all',
+  'platform.health',
 ] as const;
 export type Action = (typeof ACTIONS)[number];
 
@@ -92,7 +94,7 @@ export type Action = (typeof ACTIONS)[number];
 const BY_ACTION = new Map(ROWS.map((r) => [r.action as Action, r]));
 
 /** Platform-wide actions: they do not need an organisation. */
-export const PLATFORM_ACTIONS: readonly Action[] = ['plans.manage', 'organisations.list-all'];
+export const PLATFORM_ACTIONS: readonly Action[] = ['plans.manage', 'organisations.list-all', 'platform.health'];
 
 /** Whether someone with this organisation role (null = not a member) and platform role may act. */
 export function can(role: OrganisationRole | null, platformRole: PlatformRole | null, action: Action): boolean {

@@ -4,6 +4,7 @@
  * element-wise, and the points used in a period. Pure reads; the meter is the only writer.
  */
 import type { Knex } from 'knex';
+import { EFFECTIVE_LIMIT_SQL } from '../operator/store.js';
 
 export const GRANULARITIES = ['minute', 'hour', 'day'] as const;
 export type Granularity = (typeof GRANULARITIES)[number];
@@ -67,6 +68,11 @@ export interface OrganisationPlan {
 }
 
 export async function organisationPlan(db: Knex, organisationId: string): Promise<OrganisationPlan | undefined> {
-  const row = await db('organisations as o').join('plans as p', 'p.id', 'o.plan_id').where('o.id', organisationId).first('p.id as plan', 'p.points_per_month');
+  // the quota is the plan's unless an operator overrode it (migration 007)
+  const row = await db('organisations as o')
+    .join('plans as p', 'p.id', 'o.plan_id')
+    .leftJoin('organisation_limit_overrides as x', 'x.organisation_id', 'o.id')
+    .where('o.id', organisationId)
+    .first('p.id as plan', db.raw(`${EFFECTIVE_LIMIT_SQL.points_per_month} AS points_per_month`));
   return row ? { plan: String(row.plan), pointsPerMonth: Number(row.points_per_month) } : undefined;
 }

@@ -9,6 +9,7 @@ import { provideRouter, withComponentInputBinding } from '@angular/router';
 
 import { routes } from './app.routes';
 import { sessionInterceptor } from './core/session-interceptor';
+import { provideGraphql } from './core/graphql';
 
 /** Icons come from the self-hosted Material Symbols Outlined font declared in styles.scss. */
 const iconOptions: MatIconDefaultOptions = { fontSet: 'material-symbols-outlined' };
@@ -21,6 +22,8 @@ export const appConfig: ApplicationConfig = {
     // The session is restored by the route guards (one refresh from the cookie on first navigation).
     provideRouter(routes, withComponentInputBinding()),
     provideHttpClient(withInterceptors([sessionInterceptor])),
+    // Account data through apollo-angular against /graphql (core/graphql.ts).
+    provideGraphql(),
     { provide: MAT_ICON_DEFAULT_OPTIONS, useValue: iconOptions },
   ],
 };

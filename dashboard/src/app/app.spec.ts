@@ -1,5 +1,5 @@
 import { provideHttpClient } from '@angular/common/http';
-import { provideHttpClientTesting } from '@angular/common/http/testing';
+import { HttpTestingController, provideHttpClientTesting } from '@angular/common/http/testing';
 import { TestBed } from '@angular/core/testing';
 import { Router } from '@angular/router';
 
@@ -29,8 +29,28 @@ describe('App shell', () => {
   async function renderAt(url: string) {
     const fixture = TestBed.createComponent(App);
     await TestBed.inject(Router).navigateByUrl(url);
-    await fixture.whenStable();
+    await settle(fixture);
     return fixture.nativeElement as HTMLElement;
+  }
+
+  /**
+   * Pages load their data when they open; this spec is about the shell, so every data call is
+   * answered 503 (the pages settle in their error state) until the app is stable.
+   */
+  async function settle(fixture: { whenStable(): Promise<unknown> }) {
+    const backend = TestBed.inject(HttpTestingController);
+    let stable = false;
+    const answering = (async () => {
+      while (!stable) {
+        for (const request of backend.match(() => true)) {
+          request.flush({ type: '/problems/unavailable', title: 'Unavailable', status: 503 }, { status: 503, statusText: 'Service Unavailable' });
+        }
+        await new Promise((resolve) => setTimeout(resolve, 5));
+      }
+    })();
+    await fixture.whenStable();
+    stable = true;
+    await answering;
   }
 
   it('shows the Fermiwell wordmark in the toolbar', async () => {
