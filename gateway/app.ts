@@ -32,6 +32,7 @@ import { operatorResolvers } from './operator/resolvers.js';
 import { MixtureService } from './mixtures/service.js';
 import { mixtureRoutes } from './mixtures/routes.js';
 import { mixtureResolvers } from './mixtures/resolvers.js';
+import { startJobs } from './jobs/setup.js';
 import { billingRoutes } from './billing/routes.js';
 import { billingResolvers } from './billing/resolvers.js';
 
@@ -108,6 +109,11 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   app.use(organisationRoutes(services));
   app.use(keyAdminRoutes(services));
 
+  // Jobs and table builds: uploads and grids queued on PostgreSQL (pg-boss); one in-process worker
+  // unless JOBS_IN_PROCESS_WORKER=false (standalone workers: npm run worker, README "Scaling out")
+  const jobs = startJobs(services, eosService);
+  app.use(jobs.routes);
+
   // Plan & billing: plans, plan changes, test-mode card, invoices (Stripe SDK) and the provider's signed webhook
   app.use(billingRoutes(services));
 
@@ -115,7 +121,7 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   const operatorService = new OperatorService(services);
   app.use(operatorRoutes(services, operatorService));
 
-  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services), usageResolvers(services, usageService), operatorResolvers(services, operatorService), mixtureResolvers(services, mixtureService), billingResolvers(services)]));
+  app.use(await graphqlRoutes(services, [eosResolvers(eosService), accountResolvers(services), keyResolvers(services), usageResolvers(services, usageService), operatorResolvers(services, operatorService), mixtureResolvers(services, mixtureService), jobs.resolvers, billingResolvers(services)]));
 
   app.use(dashboardRoutes(config.DASHBOARD_DIR));
   app.use(notFound);

@@ -76,6 +76,34 @@ const schema = z.object({
   /** The local catcher's web inbox (set by npm start / npm test); shown, never used by the product. */
   MAIL_INBOX_URL: z.url().optional(),
 
+  // ── Jobs and table builds (gateway/jobs, gateway/tables; README "Scaling out") ──
+  /** Run one job worker inside the gateway (off: only standalone `npm run worker` processes compute jobs). */
+  JOBS_IN_PROCESS_WORKER: z.stringbool().default(true),
+  /** Chunks one worker computes at once; 0 = 1 in the gateway, the EOS pool's threads in `npm run worker`. */
+  JOBS_WORKER_CONCURRENCY: z.coerce.number().int().min(0).max(64).default(0),
+  /** States per chunk: the unit of queueing, retry and progress. */
+  JOBS_CHUNK_POINTS: z.coerce.number().int().min(1).max(1_000_000).default(10_000),
+  /** Largest job in states on any plan (the plan allows 10 × its largest batch, up to this). */
+  JOBS_MAX_POINTS: z.coerce.number().int().min(1).default(2_000_000),
+  /** Largest upload in bytes, checked while it arrives. */
+  JOBS_MAX_UPLOAD_BYTES: z.coerce.number().int().min(1024).default(256 * 1024 * 1024),
+  /** A chunk not finished this long after a worker took it (the worker died) is handed out again. */
+  JOBS_CHUNK_EXPIRE_SECONDS: z.coerce.number().int().min(1).default(300),
+  /** Retries of a failing chunk before its job is marked failed. */
+  JOBS_CHUNK_RETRIES: z.coerce.number().int().min(0).max(20).default(3),
+  /** How often the queue's maintenance looks for expired chunks (shared by all instances). */
+  JOBS_MAINTENANCE_SECONDS: z.coerce.number().int().min(1).default(30),
+  /** How often an idle worker asks the queue for work. */
+  JOBS_POLL_SECONDS: z.coerce.number().min(0.5).default(2),
+  /** Database connections of the queue (pg-boss), besides DATABASE_POOL_MAX. */
+  JOBS_QUEUE_POOL_MAX: z.coerce.number().int().min(1).max(100).default(4),
+  /** Threads one table build uses (eos-tables/build.ts). */
+  TABLE_BUILD_THREADS: z.coerce.number().int().min(1).max(256).default(1),
+  /** A table build not finished this long after a worker took it is handed out again. */
+  TABLE_BUILD_EXPIRE_SECONDS: z.coerce.number().int().min(60).default(3_600),
+  /** A name for this worker in job records (default host:pid). */
+  JOBS_WORKER_NAME: z.string().min(1).max(100).optional(),
+
   // ── Billing (gateway/billing): the official Stripe SDK; npm start / npm test point it at the local fake ──
   /** Stripe secret key (sk_test_… or sk_live_…). Never defaulted in code; unset: billing answers 503 billing-not-configured. */
   STRIPE_SECRET_KEY: z.string().regex(/^(sk|rk)_(test|live)_\w+$/, 'STRIPE_SECRET_KEY must look like sk_test_… or sk_live_…').optional(),
