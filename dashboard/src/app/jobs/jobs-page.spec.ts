@@ -205,6 +205,29 @@ describe('JobsPage', () => {
     fixture.detectChanges();
     expect(page.querySelectorAll('.table-build').length).toBe(2);
   });
+
+  it('counts the nodes a build will have, with the denser T band over the pair onset', async () => {
+    const { fixture, page } = await render([]);
+    const set = (label: string, value: string) => {
+      const field = Array.from(page.querySelectorAll('form.grid-form mat-form-field')).find((f) => f.textContent?.includes(label))!;
+      const input = field.querySelector('input') as HTMLInputElement;
+      input.value = value;
+      input.dispatchEvent(new Event('input'));
+    };
+    // ρYe 10^4–10^7 at 4 per decade: 13 nodes; T 10^8–10^9.5 lies in the band (60 per decade): 91 nodes
+    for (const [label, value] of [['ρYe min', '4'], ['ρYe max', '7'], ['T min', '8'], ['T max', '9.5'], ['Points per decade', '4']]) set(label, value);
+    await fixture.whenStable();
+    fixture.detectChanges();
+    expect(page.textContent).toContain('≈ 1,183 nodes');
+    expect(page.textContent).toContain('at least 60 points per decade');
+    // below the onset the axis stays uniform: T 10^3–10^7 at 4 per decade, 17 nodes
+    set('T min', '3');
+    set('T max', '7');
+    await fixture.whenStable();
+    fixture.detectChanges();
+    expect(page.textContent).toContain('≈ 221 nodes');
+    expect(page.textContent).not.toContain('at least 60 points per decade');
+  });
 });
 
 describe('jobs page formatting', () => {
@@ -215,4 +238,5 @@ describe('jobs page formatting', () => {
     expect(formatError(3.2e-7)).toBe('3.2e-7');
     expect(formatError(null)).toBe('—');
   });
+
 });

@@ -18,7 +18,9 @@ import { asProblem, problemMessage } from '../core/problem';
 import { ACTIVE_STATES, BUILTIN_MIXTURES, type Job, type JobFile, JobsApi, type TableGridRequest } from './jobs-api';
 
 /** How often the page asks again while a job or build is queued or running. */
-export const POLL_MS = 2000;
+export /** The builder's denser T band over the pair onset (eos/free-energy-table.ts PAIR_ONSET_BAND). */
+const PAIR_ONSET = { min: 8, max: 10, perDecade: 60 } as const;
+const POLL_MS = 2000;
 
 /** One problem of a refused upload, as the gateway lists it (line for CSV, index for HDF5). */
 export interface UploadIssue {
@@ -87,11 +89,18 @@ export class JobsPage {
   protected readonly canCreate = computed(() => this.actions().includes('jobs.create'));
   protected readonly canManage = computed(() => this.actions().includes('jobs.manage'));
   protected readonly anyActive = computed(() => [...this.jobs(), ...this.tables()].some((j) => ACTIVE_STATES.includes(j.state)));
+  /**
+   * Nodes the build will have: the builder adds a denser T band over the pair onset (log₁₀T 8–10 at
+   * 60 per decade, eos/free-energy-table.ts PAIR_ONSET_BAND) where the grid crosses it, for accuracy.
+   */
   protected readonly gridNodes = computed(() => {
     const g = this.grid();
-    const n = (span: number) => Math.round(span * g.pointsPerDecade) + 1;
-    return n(g.logDensityYeMax - g.logDensityYeMin) * n(g.logTemperatureMax - g.logTemperatureMin);
+    const ppd = g.pointsPerDecade;
+    const inBand = Math.max(0, Math.min(g.logTemperatureMax, PAIR_ONSET.max) - Math.max(g.logTemperatureMin, PAIR_ONSET.min));
+    const tNodes = Math.round((g.logTemperatureMax - g.logTemperatureMin - inBand) * ppd + inBand * Math.max(ppd, PAIR_ONSET.perDecade)) + 1;
+    return (Math.round((g.logDensityYeMax - g.logDensityYeMin) * ppd) + 1) * tNodes;
   });
+  protected readonly inPairOnset = computed(() => this.grid().logTemperatureMax > PAIR_ONSET.min && this.grid().logTemperatureMin < PAIR_ONSET.max);
 
   constructor() {
     effect(() => {
