@@ -60,6 +60,7 @@ export function createServices(config: Config, db: Knex, logger: Logger): Servic
   const organisations = new OrganisationService(db, config, access, audit, mailer, keys);
   const keyAdmin = new KeyManagement(keys, access, audit, config);
   const billing = new BillingService(db, config, createPaymentProvider(config), access, audit, mailer, keys, logger.child({ component: 'billing' }));
+  organisations.beforeDelete((organisationId, trx) => billing.endForDeletedOrganisation(organisationId, trx));
   const billingWebhooks = new BillingWebhooks(db, billing, keys, audit, logger.child({ component: 'billing-webhooks' }));
   meter.observeQuota(new QuotaMails(db, () => billing, `${config.PUBLIC_URL}/usage`, logger.child({ component: 'quota-mail' })).observe);
   return {

@@ -171,6 +171,22 @@ export class BillingService {
     this.sweepTimer.unref();
   }
 
+  /**
+   * Ends the organisation's paid subscription at the provider before the organisation is deleted
+   * (called inside the deletion's transaction by OrganisationService): a deleted organisation must
+   * never go on being charged. A provider failure refuses the deletion (503, nothing deleted).
+   */
+  async endForDeletedOrganisation(organisationId: string, db: Knex | Knex.Transaction = this.db): Promise<void> {
+    const sub = await store.subscription(db, organisationId);
+    if (!sub?.provider_subscription_id) return;
+    if (!this.provider) throw notConfigured();
+    try {
+      await this.provider.cancelSubscription(sub.provider_subscription_id);
+    } catch (error) {
+      throw providerProblem(error, 'The organisation was not deleted and its subscription is unchanged.');
+    }
+  }
+
   get testMode(): boolean {
     return this.provider?.testMode ?? false;
   }

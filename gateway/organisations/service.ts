@@ -175,9 +175,17 @@ export class OrganisationService {
   }
 
   /** Deletes the organisation with its memberships, invitations, keys and usage. The audit log keeps the record. */
+  /** Steps other features take inside an organisation's deletion, before its rows go (billing ends the subscription). */
+  private readonly deletionSteps: Array<(organisationId: string, trx: Knex.Transaction) => Promise<void>> = [];
+
+  beforeDelete(step: (organisationId: string, trx: Knex.Transaction) => Promise<void>): void {
+    this.deletionSteps.push(step);
+  }
+
   async delete(actor: Actor, organisationId: string): Promise<void> {
     await this.db.transaction(async (trx) => {
       const { organisation } = await this.access.require(actor, organisationId, 'organisation.delete', trx);
+      for (const step of this.deletionSteps) await step(organisationId, trx);
       await this.audit.record({ organisationId, actor, action: 'organisation.deleted', target: { type: 'organisation', id: organisationId }, details: { name: organisation.name, slug: organisation.slug }, ip: actor.ip ?? null }, trx);
       await trx('organisations').where({ id: organisationId }).delete();
     });

@@ -335,3 +335,21 @@ describe('GraphQL', () => {
     assert.equal(denied.errors?.[0]?.extensions?.code, 'forbidden');
   });
 });
+
+describe('deleting a paying organisation', () => {
+  test('ends its subscription at the provider first, so nothing goes on being charged', async () => {
+    const owner = await makeUser(db, 'billing-leaver');
+    const leaving = await makeOrganisation(db, [[owner, 'owner']], 'billing-leaving');
+    const client = new Client(gateway.url);
+    assert.equal((await client.signIn(owner.email, owner.password)).status, 200);
+    const base = `/v1/organisations/${leaving.id}/billing`;
+    assert.equal((await client.call('PUT', `${base}/card`, { number: CARDS.visa, ...futureExpiry() })).status, 200);
+    assert.equal((await client.call('PUT', `${base}/plan`, { plan: 'group' })).status, 200);
+    const sub = await db('subscriptions').where({ organisation_id: leaving.id }).first();
+    assert.equal((await fakeStripe().subscriptions.retrieve(sub.provider_subscription_id)).status, 'active');
+
+    assert.equal((await client.delete(`/v1/organisations/${leaving.id}`)).status, 204);
+    assert.equal((await fakeStripe().subscriptions.retrieve(sub.provider_subscription_id)).status, 'canceled');
+    assert.equal(await db('organisations').where({ id: leaving.id }).first(), undefined);
+  });
+});
