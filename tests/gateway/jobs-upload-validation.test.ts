@@ -25,6 +25,9 @@ before(async () => {
   gateway = await startTestGateway({ JOBS_IN_PROCESS_WORKER: 'false', EOS_POOL_MIN_THREADS: '0', JOBS_MAX_UPLOAD_BYTES: String(MAX_BYTES) });
   fx = new Fixtures();
   key = await fx.keyOnPlan('free', ['eos:evaluate', 'jobs:write']);
+  // the Free plan's job size is what these tests probe, not its 10 requests per second: lift only the
+  // rate (an operator override, migration 007), so the uploads below are never rate-limited
+  await fx.db('organisation_limit_overrides').insert({ organisation_id: key.org.id, requests_per_second: 1000, reason: 'test: upload checks send many requests' });
   evalOnly = await fx.key(key.org as never, { scopes: ['eos:evaluate'] });
 });
 after(async () => {
