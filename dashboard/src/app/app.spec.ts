@@ -142,7 +142,7 @@ describe('App shell', () => {
     const router = TestBed.inject(Router);
     await vi.waitFor(() => expect(router.url).toBe('/jobs'));
     await vi.waitFor(() => expect(shell.querySelector('main h1')?.textContent).toBe('Jobs'));
-    expect(shell.querySelector('main p')?.textContent).toBe('This page arrives with issue 9.');
+    expect(shell.querySelector('main .fw-page-lead')?.textContent).toContain('free-energy tables built for your code');
   });
 
   it('states the model caution on every page', async () => {
