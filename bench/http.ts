@@ -15,6 +15,7 @@
  *
  * Run: with the project's PostgreSQL running (npm start, or any cluster of scripts/lib/postgres.ts):
  *   DATABASE_URL=postgres://…/fermiwell JWT_SECRET=<32+ chars> node --import tsx bench/http.ts [--method exact|table] [--seconds 8] [--points 100000]
+ * (`--method table` also needs EOS_TABLE_PATH, the table file, e.g. .data/tables/<key>.h5)
  */
 import http from 'node:http';
 import type { AddressInfo } from 'node:net';
@@ -29,6 +30,7 @@ import { KeyService } from '../gateway/keys/service.js';
 import { createApp } from '../gateway/app.js';
 import { createLogger } from '../gateway/logger.js';
 import { evaluate } from '../eos/index.js';
+import { readTable } from '../eos-tables/table-file.js';
 
 const { values: args } = parseArgs({
   options: {
@@ -107,8 +109,13 @@ try {
     temperature[i] = 10 ** (4 + 6 * rnd());
   }
   const fields = ['pressure', 'specificEnergy', 'specificEntropy', 'gamma1', 'soundSpeed'];
+  // the table method in process needs the same table file the gateway uses (EOS_TABLE_PATH)
+  const tablePath = process.env['EOS_TABLE_PATH'];
+  if (METHOD === 'table' && !tablePath) throw new Error('--method table needs EOS_TABLE_PATH (the table file the gateway uses)');
+  const table = METHOD === 'table' ? await readTable(tablePath!) : undefined;
+  evaluate({ density, temperature, abar: 12, zbar: 6 }, { method: METHOD, ...(table ? { table } : {}) }); // warm-up
   let t = performance.now();
-  evaluate({ density, temperature, abar: 12, zbar: 6 }, { method: METHOD });
+  evaluate({ density, temperature, abar: 12, zbar: 6 }, { method: METHOD, ...(table ? { table } : {}) });
   const inProcess = POINTS / ((performance.now() - t) / 1000);
   console.log(`in-process evaluate (${METHOD}, one core, main thread): ${fmt(inProcess)} points/s`);
 
