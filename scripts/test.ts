@@ -110,6 +110,7 @@ async function main() {
     nodeTestLayer('eos', 'tests/eos'),
     nodeTestLayer('gateway', 'tests/gateway'),
     nodeTestLayer('examples', 'tests/examples'),
+    nodeTestLayer('reliability', 'tests/reliability'),
     dashboardLayer,
     nodeTestLayer('e2e', 'tests/e2e'),
   ];
@@ -130,7 +131,7 @@ async function main() {
     process.exit(1);
   }
 
-  const needsDatabase = selected.some((l) => l.name === 'gateway' || l.name === 'examples' || l.name === 'e2e');
+  const needsDatabase = selected.some((l) => l.name === 'gateway' || l.name === 'examples' || l.name === 'reliability' || l.name === 'e2e');
   const needsDashboard = selected.some((l) => l.name === 'e2e');
   let cluster: Cluster | undefined;
   let stopServices: (() => Promise<void>) | undefined;

@@ -17,11 +17,11 @@ import { ApolloServer, type ApolloServerPlugin } from '@apollo/server';
 import { ApolloServerPluginLandingPageDisabled } from '@apollo/server/plugin/disabled';
 import { unwrapResolverError } from '@apollo/server/errors';
 import { expressMiddleware } from '@as-integrations/express5';
-import type { GraphQLFormattedError } from 'graphql';
+import { GraphQLError, type GraphQLFormattedError } from 'graphql';
 import { repoRoot } from '../config.js';
 import type { Services } from '../services.js';
 import type { ApiKeyContext, Scope } from '../keys/types.js';
-import { ProblemError, PROBLEM_BASE } from '../shared/problem.js';
+import { ProblemError, PROBLEM_BASE, databaseUnavailable } from '../shared/problem.js';
 import { setRateLimitHeaders } from '../usage/rate-limit.js';
 
 export const SDL_DIR = path.join(repoRoot, 'schema', 'graphql');
@@ -78,7 +78,9 @@ export async function graphqlRoutes(services: Services, resolvers: Resolvers[]):
     includeStacktraceInErrorResponses: false,
     plugins: [ApolloServerPluginLandingPageDisabled(), logErrors],
     formatError(formatted: GraphQLFormattedError, error: unknown): GraphQLFormattedError {
-      const original = unwrapResolverError(error);
+      const unwrapped = unwrapResolverError(error);
+      // an unreachable database is a 503 database-unavailable problem here as on REST
+      const original = databaseUnavailable(unwrapped) ?? unwrapped;
       if (original instanceof ProblemError) {
         const p = original.problem;
         return {
@@ -86,6 +88,15 @@ export async function graphqlRoutes(services: Services, resolvers: Resolvers[]):
           ...(formatted.locations ? { locations: formatted.locations } : {}),
           ...(formatted.path ? { path: formatted.path } : {}),
           extensions: { code: problemKind(p), status: p.status, problem: p },
+        };
+      }
+      if (formatted.extensions?.['code'] === 'INTERNAL_SERVER_ERROR' && original instanceof GraphQLError && !original.originalError) {
+        // raised by graphql-js itself about the request (e.g. a subscription, which this schema has
+        // none of), not thrown by our code: the caller's mistake, with graphql-js's message
+        return {
+          message: formatted.message,
+          ...(formatted.locations ? { locations: formatted.locations } : {}),
+          extensions: { code: 'BAD_REQUEST', status: 400 },
         };
       }
       if (formatted.extensions?.['code'] === 'INTERNAL_SERVER_ERROR') {

@@ -102,7 +102,15 @@ export function jobRoutes(services: Services, jobs: JobsService): Router {
     if (req.file) req.body = { ...(req.body as Record<string, unknown>), [FILE_DIGEST_FIELD]: sha256Hex(req.file.buffer) };
     next();
   };
-  router.post('/v1/jobs', auth, upload.single('file'), fileDigest, idempotency(services.db), async (req, res) => {
+  // busboy's own parse errors (a malformed part header, a missing boundary, a cut-off body) are plain
+  // Errors without a status: they are the client's malformed body, so a 400 problem, never a 500
+  const readFile = upload.single('file');
+  const readUpload: RequestHandler = (req, res, next) =>
+    readFile(req, res, (error?: unknown) => {
+      if (!error || error instanceof multer.MulterError || error instanceof ProblemError) return next(error);
+      next(new ProblemError('invalid-request', 400, 'Invalid upload', `The multipart body could not be read (${(error as Error).message ?? String(error)}); send one file in the part "file" and the options as text fields.`));
+    });
+  router.post('/v1/jobs', auth, readUpload, fileDigest, idempotency(services.db), async (req, res) => {
     if (!req.file) {
       throw new ProblemError('invalid-request', 400, 'Upload missing', 'Send the states as multipart/form-data with the file in the part named "file" (CSV or HDF5).', {
         errors: [{ path: 'file', message: 'required' }],

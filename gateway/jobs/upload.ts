@@ -148,6 +148,11 @@ export async function parseHdf5(bytes: Uint8Array, maxPoints: number, plan: stri
     } catch (error) {
       throw invalidUpload([{ message: `the file is not readable as HDF5 (${(error as Error).message})` }]);
     }
+    // h5wasm does not throw on a file it cannot open (one with the signature and garbage after it):
+    // the id is negative and every later call fails with an unrelated message
+    if (Number(f.file_id) < 0) {
+      throw invalidUpload([{ message: 'the file starts with the HDF5 signature but is not readable as HDF5 (truncated or damaged)' }]);
+    }
     try {
       const names = (f.keys() as string[]).filter((k) => (UPLOAD_COLUMNS as readonly string[]).includes(k));
       const errors = checkColumns(names, () => ({}));
@@ -188,6 +193,10 @@ export async function parseHdf5(bytes: Uint8Array, maxPoints: number, plan: stri
       if (problems.length) throw invalidUpload(problems);
       if (!length) throw invalidUpload([{ message: 'the datasets are empty' }]);
       return { format: 'hdf5', columns: out, points: length };
+    } catch (error) {
+      // a damaged file that opened: h5wasm's own errors are the upload's problem, not ours
+      if (error instanceof ProblemError) throw error;
+      throw invalidUpload([{ message: `the file is not readable as HDF5 (${(error as Error).message})` }]);
     } finally {
       f.close();
     }

@@ -13,6 +13,9 @@ import type { KeyService } from './service.js';
 import type { ApiKeyWithCreator } from './store.js';
 import { SCOPES, type Scope } from './types.js';
 
+/** A key's public id (keys/token.ts): anything else is no key, and never reaches SQL (PostgreSQL refuses a NUL in text with an error). */
+const KEY_ID = /^[a-z0-9]{8}$/;
+
 export type KeyState = 'active' | 'rotating' | 'expired' | 'revoked';
 
 export interface KeyView {
@@ -87,7 +90,7 @@ export class KeyManagement {
 
   async get(actor: Actor, organisationId: string, keyId: string): Promise<KeyView> {
     await this.access.require(actor, organisationId, 'keys.read');
-    const row = await this.keys.findWithCreator(organisationId, keyId);
+    const row = KEY_ID.test(keyId) ? await this.keys.findWithCreator(organisationId, keyId) : undefined;
     if (!row) throw keyNotFound(keyId);
     return keyView(row);
   }
@@ -109,7 +112,7 @@ export class KeyManagement {
   /** The key, after checking that the actor may rotate or revoke it (own key, or any key). */
   private async manageable(actor: Actor, organisationId: string, keyId: string): Promise<ApiKeyWithCreator> {
     const access = await this.access.require(actor, organisationId, 'keys.read');
-    const row = await this.keys.findWithCreator(organisationId, keyId);
+    const row = KEY_ID.test(keyId) ? await this.keys.findWithCreator(organisationId, keyId) : undefined;
     if (!row) throw keyNotFound(keyId);
     if (this.access.allows(access, actor, 'keys.manage-any')) return row;
     if (row.created_by === actor.userId && this.access.allows(access, actor, 'keys.manage-own')) return row;

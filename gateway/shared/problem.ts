@@ -25,6 +25,39 @@ export class ProblemError extends Error {
   }
 }
 
+/** Seconds a client is asked to wait (Retry-After) when the database cannot be reached. */
+export const DATABASE_RETRY_AFTER_SECONDS = 5;
+
+// Node socket codes of a refused connection (the gateway's only other outgoing calls, the payment
+// provider and SMTP, map their own errors) and PostgreSQL SQLSTATEs meaning "the database is not
+// reachable right now": class 08 (connection exception), 57P01–57P03 (admin shutdown, crash
+// shutdown, cannot connect now), 53300 (too many connections) — PostgreSQL manual, Appendix A.
+const UNREACHABLE_CODES = new Set(['ECONNREFUSED', 'EHOSTUNREACH', '57P01', '57P02', '57P03', '53300']);
+const UNREACHABLE_MESSAGE = /Connection terminated|connection error|Timeout acquiring a connection|timeout exceeded when trying to connect|the database system is (starting up|shutting down)/i;
+
+/**
+ * The 503 problem for an error that means the database is unreachable (PostgreSQL restarting,
+ * down, or the pool unable to connect); undefined for any other error. Looks through `cause` and
+ * AggregateError members, where pg and knex put the socket error.
+ */
+export function databaseUnavailable(err: unknown, depth = 0): ProblemError | undefined {
+  if (!err || typeof err !== 'object' || depth > 4) return undefined;
+  const e = err as { code?: unknown; name?: unknown; message?: unknown; cause?: unknown; errors?: unknown };
+  const code = typeof e.code === 'string' ? e.code : '';
+  const hit = UNREACHABLE_CODES.has(code) || code.startsWith('08') && code.length === 5 || e.name === 'KnexTimeoutError' || (typeof e.message === 'string' && UNREACHABLE_MESSAGE.test(e.message));
+  if (hit) {
+    return new ProblemError(
+      'database-unavailable',
+      503,
+      'Database unavailable',
+      `The service cannot reach its database right now. Nothing was applied or billed; retry after ${DATABASE_RETRY_AFTER_SECONDS} seconds.`,
+      { retryAfterSeconds: DATABASE_RETRY_AFTER_SECONDS },
+    );
+  }
+  if (Array.isArray(e.errors)) for (const inner of e.errors) { const p = databaseUnavailable(inner, depth + 1); if (p) return p; }
+  return databaseUnavailable(e.cause, depth + 1);
+}
+
 export function sendProblem(res: Response, problem: Problem) {
   res.status(problem.status).type('application/problem+json').send(JSON.stringify(problem));
 }
@@ -39,10 +72,16 @@ export const notFound: RequestHandler = (req, res) => {
   });
 };
 
-/** The last middleware: known problems as they are, body-parser errors as 4xx, the rest as 500. */
+/** The last middleware: known problems as they are, an unreachable database as 503, body-parser errors as 4xx, the rest as 500. */
 export const problemHandler: ErrorRequestHandler = (err, req, res, next) => {
   if (res.headersSent) return next(err);
   if (err instanceof ProblemError) return sendProblem(res, { ...err.problem, instance: req.originalUrl });
+  const unavailable = databaseUnavailable(err);
+  if (unavailable) {
+    req.log?.warn({ err }, 'database unavailable');
+    res.setHeader('Retry-After', String(DATABASE_RETRY_AFTER_SECONDS));
+    return sendProblem(res, { ...unavailable.problem, instance: req.originalUrl });
+  }
   const status = typeof err?.status === 'number' && err.status >= 400 && err.status < 500 ? err.status : 500;
   if (status === 500) {
     req.log?.error({ err }, 'unhandled error');

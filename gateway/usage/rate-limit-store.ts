@@ -25,6 +25,8 @@ export class PostgresRateLimitStore implements Store {
   prefix: string;
   private windowMs = 1_000;
   private readonly windows = new Map<string, Window>();
+  /** Ended windows whose last hits are not in the shared row yet (added at the next sync, so the rows are a complete record). */
+  private retired: Array<[string, Window]> = [];
   private timer: NodeJS.Timeout | undefined;
   private syncing: Promise<void> | undefined;
   syncFailures = 0;
@@ -43,6 +45,7 @@ export class PostgresRateLimitStore implements Store {
     const start = Math.floor(Date.now() / this.windowMs) * this.windowMs;
     let window = this.windows.get(key);
     if (!window || window.start !== start) {
+      if (window && window.mine > window.synced) this.retired.push([key, window]);
       window = { start, mine: 0, synced: 0, others: 0 };
       this.windows.set(key, window);
     }
@@ -80,9 +83,12 @@ export class PostgresRateLimitStore implements Store {
   private async doSync() {
     const now = Date.now();
     const due: Array<[string, Window, number]> = [];
+    for (const [key, w] of this.retired.splice(0)) due.push([key, w, w.mine - w.synced]);
     for (const [key, w] of this.windows) {
       if (w.start + this.windowMs < now) {
         this.windows.delete(key);
+        // its last hits still go into the shared row
+        if (w.mine > w.synced) due.push([key, w, w.mine - w.synced]);
         continue;
       }
       due.push([key, w, w.mine - w.synced]);
