@@ -31,6 +31,9 @@ before(async () => {
   gateway = await startTestGateway({ JOBS_POLL_SECONDS: '0.5', EOS_POOL_MAX_THREADS: '1' });
   fx = new Fixtures();
   key = await fx.keyOnPlan('free', ['eos:evaluate', 'jobs:write']);
+  // the Free plan's table-build allowance is what these tests probe, not its 10 requests per second:
+  // lift only the rate (an operator override, migration 007), so polling a build is never rate-limited
+  await fx.db('organisation_limit_overrides').insert({ organisation_id: key.org.id, requests_per_second: 1000, reason: 'test: polling table builds' });
 });
 after(async () => {
   await gateway.close();
