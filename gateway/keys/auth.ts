@@ -1,5 +1,5 @@
 /** Express middleware: authenticate the API key (401) and require a scope (403). */
-import type { RequestHandler } from 'express';
+import { Router, type RequestHandler } from 'express';
 import { ProblemError } from '../shared/problem.js';
 import type { KeyService } from './service.js';
 import type { ApiKeyContext, Scope } from './types.js';
@@ -31,4 +31,15 @@ export function apiKeyOf(res: { locals: Record<string, unknown> }): ApiKeyContex
   const key = res.locals['apiKey'] as ApiKeyContext | undefined;
   if (!key) throw new ProblemError('missing-api-key', 401, 'API key required', 'Send "Authorization: Bearer fwk_…".');
   return key;
+}
+
+/**
+ * The API-key path as one middleware: authenticate the key, require the scope, then the per-key rate
+ * limit (an Express router runs them in order and stops at the first error), for routes that also
+ * accept a signed-in session.
+ */
+export function apiKeyChain(keys: KeyService, scope: Scope, rateLimit: RequestHandler): RequestHandler {
+  const chain = Router();
+  chain.use(apiKeyAuth(keys), requireScope(scope), rateLimit);
+  return chain;
 }

@@ -8,7 +8,7 @@
  */
 import express, { Router, type Request, type RequestHandler, type Response } from 'express';
 import type { Services } from '../services.js';
-import { apiKeyAuth, requireScope } from '../keys/auth.js';
+import { apiKeyChain } from '../keys/auth.js';
 import type { ApiKeyContext } from '../keys/types.js';
 import { bearerToken, ORGANISATION_HEADER, requireSession, sessionOf } from '../auth/session.js';
 import { organisationNotFound, type Actor } from '../organisations/access.js';
@@ -32,22 +32,9 @@ function organisationMissing(): ProblemError {
 export function mixtureRoutes(services: Services, mixtures: MixtureService): Router {
   const router = Router();
   const session = requireSession(services.auth, services.access);
-  const keyChain = [apiKeyAuth(services.keys), requireScope('eos:evaluate'), services.rateLimit.middleware];
-  /** An API key (its chain: authenticate, scope, rate limit) or a signed-in session. */
-  const keyOrSession: RequestHandler = (req, res, next) => {
-    if (!bearerToken(req)?.startsWith('fwk_')) {
-      session(req, res, next);
-      return;
-    }
-    let i = 0;
-    const step = (error?: unknown): void => {
-      if (error) return next(error);
-      const handler = keyChain[i++];
-      if (!handler) return next();
-      handler(req, res, step as never);
-    };
-    step();
-  };
+  const keyChain = apiKeyChain(services.keys, 'eos:evaluate', services.rateLimit.middleware);
+  /** An API key (authenticate, scope, per-key rate limit) or a signed-in session. */
+  const keyOrSession: RequestHandler = (req, res, next) => (bearerToken(req)?.startsWith('fwk_') ? keyChain : session)(req, res, next);
   const actor = (req: Request, res: Response): Actor => ({ ...sessionOf(res).actor, ip: req.ip ?? null });
   const organisationFor = (req: Request): string => {
     const asked = askedOrganisation(req);

@@ -10,7 +10,7 @@
 import { Router, type ErrorRequestHandler, type RequestHandler } from 'express';
 import * as OpenApiValidator from 'express-openapi-validator';
 import type { Services } from '../services.js';
-import { apiKeyAuth, requireScope } from '../keys/auth.js';
+import { apiKeyChain } from '../keys/auth.js';
 import type { ApiKeyContext } from '../keys/types.js';
 import { bearerToken, ORGANISATION_HEADER, sessionFromRequest } from '../auth/session.js';
 import { organisationNotFound } from '../organisations/access.js';
@@ -22,18 +22,11 @@ export const USAGE_PATH = '/v1/usage';
 
 export function usageRoutes(services: Services, usage: UsageService): Router {
   const router = Router();
-  const keyAuth = [apiKeyAuth(services.keys), requireScope('usage:read'), services.rateLimit.middleware];
+  const keyChain = apiKeyChain(services.keys, 'usage:read', services.rateLimit.middleware);
   const authenticate: RequestHandler = (req, res, next) => {
     if (bearerToken(req)?.startsWith('fwk_')) {
-      // run the key chain: authenticate, scope, per-key rate limit
-      let i = 0;
-      const step = (error?: unknown): void => {
-        if (error) return next(error);
-        const handler = keyAuth[i++];
-        if (!handler) return next();
-        handler(req, res, step as never);
-      };
-      return step();
+      keyChain(req, res, next);
+      return;
     }
     // a signed-in session (401 without one) before the parameters are looked at
     sessionFromRequest(req, services.auth).then(() => next(), next);
