@@ -80,84 +80,81 @@ export function createOcpValues(): OcpValues {
   return { f: 0, u: 0, c: 0, s: 0 };
 }
 
+// Taylor coefficients of the three small-argument series below (multiplications only in the loops)
+/** 2·binom(−1/2, n)/(2n + 3): x√(1+x²) − sinh⁻¹x = Σ_n c_n x^{2n+3}. */
+const ASINH_SERIES = Float64Array.from({ length: 14 }, (_, n) => {
+  let b = 1;
+  for (let k = 0; k < n; k++) b *= -(2 * k + 1) / (2 * k + 2);
+  return (2 * b) / (2 * n + 3);
+});
+/** (−1)^{n+1}/(2n + 1), n ≥ 1: y − arctan y = Σ_n c_n y^{2n+1}. */
+const ATAN_SERIES = Float64Array.from({ length: 14 }, (_, k) => ((k % 2 === 0 ? 1 : -1) / (2 * (k + 1) + 1)));
+/** (−1)^n/n, n ≥ 2: q − ln(1+q) = Σ_n c_n q^n. */
+const LOG1P_SERIES = Float64Array.from({ length: 18 }, (_, k) => ((k % 2 === 0 ? 1 : -1) / (k + 2)));
+
+/** Σ_k c_k t0 r^k, stopped when a term falls below 1e-17 of the sum. */
+function series(c: Float64Array, t0: number, r: number): number {
+  let term = t0;
+  let sum = 0;
+  for (let k = 0; k < c.length; k++) {
+    const t = c[k] * term;
+    sum += t;
+    if (Math.abs(t) < 1e-17 * Math.abs(sum)) break;
+    term *= r;
+  }
+  return sum;
+}
+
 /** x√(1+x²) − asinh x, without cancellation for small x. */
 function sqrtAsinhDifference(x: number): number {
-  if (x < 0.2) {
-    // 2 Σ_n binom(−1/2, n) x^{2n+3}/(2n+3)
-    const x2 = x * x;
-    let term = x * x2;
-    let coef = 1;
-    let sum = 0;
-    for (let n = 0; n < 14; n++) {
-      sum += (coef * term) / (2 * n + 3);
-      coef *= -(2 * n + 1) / (2 * n + 2);
-      term *= x2;
-    }
-    return 2 * sum;
-  }
+  if (x < 0.2) return series(ASINH_SERIES, x * x * x, x * x);
   return x * Math.sqrt(1 + x * x) - Math.asinh(x);
 }
 
 /** y − arctan y, without cancellation for small y. */
 function minusArctan(y: number): number {
-  if (y < 0.2) {
-    const y2 = y * y;
-    let term = y * y2;
-    let sum = 0;
-    let sign = 1;
-    for (let n = 1; n < 15; n++) {
-      sum += (sign * term) / (2 * n + 1);
-      sign = -sign;
-      term *= y2;
-    }
-    return sum;
-  }
+  if (y < 0.2) return series(ATAN_SERIES, y * y * y, y * y);
   return y - Math.atan(y);
 }
 
 /** q − ln(1+q), without cancellation for small q. */
 function minusLog1p(q: number): number {
-  if (q < 0.1) {
-    let term = q * q;
-    let sum = 0;
-    let sign = 1;
-    for (let n = 2; n < 20; n++) {
-      sum += (sign * term) / n;
-      sign = -sign;
-      term *= q;
-    }
-    return sum;
-  }
+  if (q < 0.1) return series(LOG1P_SERIES, q * q, q);
   return q - Math.log1p(q);
 }
 
-/** Potekhin & Chabrier (2000) liquid-OCP fit and its analytic derivatives at coupling Γ > 0. */
-export function ocpLiquid(G: number, out: OcpValues): void {
+/**
+ * Potekhin & Chabrier (2000) liquid-OCP fit and its analytic derivatives at coupling Γ > 0.
+ * `withF` false: out.f is left NaN where it is not needed for s (Γ > 1), saving its series.
+ */
+export function ocpLiquid(G: number, out: OcpValues, withF = true): void {
   const A1 = OCP_A1, A2 = OCP_A2, A3 = OCP_A3, B1 = OCP_B1, B2 = OCP_B2, B3 = OCP_B3, B4 = OCP_B4;
   const sG = Math.sqrt(G);
   const G32 = G * sG;
   const G2 = G * G;
   const sA = Math.sqrt(A2 + G);
-  const onePlusG = 1 + G;
-  const b2g = B2 + G;
-  const b4g = B4 + G2;
-  const u = G32 * (A1 / sA + A3 / onePlusG) + (B1 * G2) / b2g + (B3 * G2) / b4g;
+  // reciprocals once (division is the slow operation here)
+  const iA = 1 / sA, i1 = 1 / (1 + G), i2 = 1 / (B2 + G), i4 = 1 / (B4 + G2);
+  const u = G32 * (A1 * iA + A3 * i1) + B1 * G2 * i2 + B3 * G2 * i4;
   const c =
-    (-0.5 * A1 * A2 * G32) / (sA * sA * sA) +
-    (0.5 * A3 * G32 * (G - 1)) / (onePlusG * onePlusG) -
-    (B1 * B2 * G2) / (b2g * b2g) +
-    (B3 * G2 * (G2 - B4)) / (b4g * b4g);
-  const x = Math.sqrt(G / A2);
-  const q = G / B2;
-  const lnB4 = Math.log1p(G2 / B4);
-  const f = A1 * A2 * sqrtAsinhDifference(x) + 2 * A3 * minusArctan(sG) + B1 * B2 * minusLog1p(q) + 0.5 * B3 * lnB4;
+    -0.5 * A1 * A2 * G32 * iA * iA * iA +
+    0.5 * A3 * G32 * (G - 1) * i1 * i1 -
+    B1 * B2 * G2 * i2 * i2 +
+    B3 * G2 * (G2 - B4) * i4 * i4;
+  const x = sG * INV_SQRT_A2; // (Γ/A2)^{1/2}
+  const q = G * INV_B2;
+  const lnB4 = Math.log1p(G2 * INV_B4);
+  const f = withF || G <= 1
+    ? A1 * A2 * sqrtAsinhDifference(x) + 2 * A3 * minusArctan(sG) + B1 * B2 * minusLog1p(q) + 0.5 * B3 * lnB4
+    : NaN;
   let s: number;
   if (G > 1) {
+    // sinh⁻¹x = ln(x + (1 + x²)^{1/2}) = ln(Γ^{1/2} + (A2 + Γ)^{1/2}) − ½ ln A2 (one log instead of Math.asinh)
     s =
-      A1 * A2 * (Math.asinh(x) - sG / sA) +
-      A3 * (2 * Math.atan(sG) - (sG * (G + 2)) / onePlusG) +
-      B1 * B2 * (Math.log1p(q) - G / b2g) +
-      (B3 * G2) / b4g -
+      A1 * A2 * (Math.log(sG + sA) - HALF_LN_A2 - sG * iA) +
+      A3 * (2 * Math.atan(sG) - sG * (G + 2) * i1) +
+      B1 * B2 * (Math.log1p(q) - G * i2) +
+      B3 * G2 * i4 -
       0.5 * B3 * lnB4;
   } else {
     s = u - f;
@@ -167,6 +164,11 @@ export function ocpLiquid(G: number, out: OcpValues): void {
   out.c = c;
   out.s = s;
 }
+
+const INV_SQRT_A2 = 1 / Math.sqrt(OCP_A2);
+const HALF_LN_A2 = 0.5 * Math.log(OCP_A2);
+const INV_B2 = 1 / OCP_B2;
+const INV_B4 = 1 / OCP_B4;
 
 /** Debye–Hückel free energy of the OCP, f = −Γ^{3/2}/√3 (the Γ → 0 limit of the fit). */
 export function debyeHuckelFreeEnergy(G: number): number {
@@ -211,8 +213,8 @@ export function coulombCorrection(
   let zExp: number;
   let gammaEff: number;
   if (mixture === null) {
-    const G = Math.pow(zbar, 5 / 3) * ge;
-    ocpLiquid(G, ocpScratch);
+    const G = zbar * Math.cbrt(zbar * zbar) * ge; // Zbar^{5/3} (Math.pow costs ~8 cbrt here)
+    ocpLiquid(G, ocpScratch, false);
     const Y = 1 / abar;
     U = Y * ocpScratch.u;
     C = Y * ocpScratch.c;
@@ -227,7 +229,7 @@ export function coulombCorrection(
       const Y = mixture.y[base + j];
       const z53 = mixture.z53[j];
       if (Y === 0 || z53 === 0) continue;
-      ocpLiquid(z53 * ge, ocpScratch);
+      ocpLiquid(z53 * ge, ocpScratch, false);
       U += Y * ocpScratch.u;
       C += Y * ocpScratch.c;
       S += Y * ocpScratch.s;
@@ -239,21 +241,23 @@ export function coulombCorrection(
   const RT = R_GAS * T;
   // Γ du/dΓ summed: U1 = U − C
   const U1 = U - C;
+  const third = 1 / 3;
+  const i3rho = third / rho;
   out.gamma = gammaEff;
-  out.pressure = (rho * RT * U) / 3;
-  out.dPdRho = (RT * (4 * U - C)) / 9;
-  out.dPdT = (rho * R_GAS * C) / 3;
+  out.pressure = rho * RT * U * third;
+  out.dPdRho = RT * (4 * U - C) * (third * third);
+  out.dPdT = rho * R_GAS * C * third;
   out.energy = RT * U;
-  out.dEdRho = (RT * U1) / (3 * rho);
+  out.dEdRho = RT * U1 * i3rho;
   out.dEdT = R_GAS * C;
   out.entropy = R_GAS * S;
-  out.dSdRho = (-R_GAS * C) / (3 * rho);
+  out.dSdRho = -R_GAS * C * i3rho;
   out.dSdT = (R_GAS * C) / T;
   // ∂U/∂Abar = −(U + U1/3)/Abar ; ∂U/∂Zbar = zExp U1/Zbar
-  const dUdA = -(U + U1 / 3) / abar;
+  const dUdA = -(U + U1 * third) / abar;
   const dUdZ = (zExp * U1) / zbar;
-  out.dPdAbar = (rho * RT * dUdA) / 3;
-  out.dPdZbar = (rho * RT * dUdZ) / 3;
+  out.dPdAbar = rho * RT * dUdA * third;
+  out.dPdZbar = rho * RT * dUdZ * third;
   out.dEdAbar = RT * dUdA;
   out.dEdZbar = RT * dUdZ;
 }

@@ -480,7 +480,7 @@ export function boltzmannReference(d: number, T: number, out: Float64Array): voi
   } else {
     const a = Math.exp(lam);
     const r = Math.sqrt(1 + a * a);
-    etaB = Math.asinh(a) - ib;
+    etaB = Math.log(a + r) - ib; // sinh⁻¹a (a > 0: no cancellation; Math.asinh costs 3× Math.log here)
     g1 = a / r;
     c1 = 1 / (r * (r + a));
     g2 = a / (r * r * r);
@@ -595,7 +595,7 @@ function kernelPairParts(d: number, T: number, u: number, v: number, out: Float6
   } else {
     const a = Math.exp(lam);
     const r = Math.sqrt(1 + a * a);
-    etaB = Math.asinh(a) - ib;
+    etaB = Math.log(a + r) - ib; // sinh⁻¹a (a > 0: no cancellation; Math.asinh costs 3× Math.log here)
     g1 = a / r;
     B = lam - 0.5 * Math.log1p(a * a);
   }
@@ -610,8 +610,9 @@ function kernelPairParts(d: number, T: number, u: number, v: number, out: Float6
   } else if (dr > 40) {
     out[2] = rho; out[3] = rhoU; out[4] = rhoV;
   } else {
-    const sig = 1 / (1 + Math.exp(-dr));
-    out[2] = (dr > 0 ? rho : LN_SHARE_FLOOR) + Math.log1p(Math.exp(-Math.abs(dr)));
+    const ed = Math.exp(-Math.abs(dr));
+    const sig = dr > 0 ? 1 / (1 + ed) : ed / (1 + ed); // 1/(1 + e^{−dr})
+    out[2] = (dr > 0 ? rho : LN_SHARE_FLOOR) + Math.log1p(ed);
     out[3] = sig * rhoU;
     out[4] = sig * rhoV;
   }
@@ -743,8 +744,6 @@ export function tablePairGas(table: FreeEnergyTable, d: number, T: number, out: 
   const a10 = 1 - 10 * m3 + 15 * m4 - 6 * m5, a11 = -(mx - 6 * m3 + 8 * m4 - 3 * m5), a12 = 0.5 * (m2 - 3 * m3 + 3 * m4 - m5);
   const b00d = -30 * x2 + 60 * x3 - 30 * x4, b01d = 1 - 18 * x2 + 32 * x3 - 15 * x4, b02d = 0.5 * (2 * x - 9 * x2 + 12 * x3 - 5 * x4);
   const b10d = 30 * m2 - 60 * m3 + 30 * m4, b11d = 1 - 18 * m2 + 32 * m3 - 15 * m4, b12d = -0.5 * (2 * mx - 9 * m2 + 12 * m3 - 5 * m4);
-  const c00 = -60 * x + 180 * x2 - 120 * x3, c01 = -36 * x + 96 * x2 - 60 * x3, c02 = 0.5 * (2 - 18 * x + 36 * x2 - 20 * x3);
-  const c10 = -60 * mx + 180 * m2 - 120 * m3, c11 = -(-36 * mx + 96 * m2 - 60 * m3), c12 = 0.5 * (2 - 18 * mx + 36 * m2 - 20 * m3);
   const y2 = y * y, y3 = y2 * y, y4 = y3 * y, y5 = y4 * y;
   const n2 = my * my, n3 = n2 * my, n4 = n3 * my, n5 = n4 * my;
   const p00 = 1 - 10 * y3 + 15 * y4 - 6 * y5, p01u = y - 6 * y3 + 8 * y4 - 3 * y5, p02u = 0.5 * (y2 - 3 * y3 + 3 * y4 - y5);
@@ -759,90 +758,43 @@ export function tablePairGas(table: FreeEnergyTable, d: number, T: number, out: 
   const q01 = q01u * hv, q02 = q02u * hv2, q11 = q11u * hv, q12 = q12u * hv2;
   const r01 = r01u * hv, r02 = r02u * hv2, r11 = r11u * hv, r12 = r12u * hv2;
 
-  let F = 0, Fx = 0, Fy = 0, Fxx = 0, Fxy = 0, Fyy = 0;
-  // corner (i, j): x-basis a0*, y-basis p0*
-  let o = (i * nT + j) * STRIDE;
+  // (no ∂²/∂u²: ∂P/∂d comes from η by Gibbs–Duhem below, which is more accurate where pairs dominate)
+  // Contract along x first (both x-nodes at once), then apply each y-node's basis once:
+  // A_l = Σ_m H[m, l] a_m over the x-nodes i, i+1 (m, l the orders of the u- and v-derivatives).
+  let F = 0, Fx = 0, Fy = 0, Fxy = 0, Fyy = 0;
+  const oA = (i * nT + j) * STRIDE, oB = oA + nT * STRIDE, oC = oA + STRIDE, oD = oB + STRIDE;
   {
-    const G0 = data[o] * p00 + data[o + 2] * p01 + data[o + 5] * p02;
-    const G1 = data[o + 1] * p00 + data[o + 4] * p01 + data[o + 7] * p02;
-    const G2 = data[o + 3] * p00 + data[o + 6] * p01 + data[o + 8] * p02;
-    const H0 = data[o] * q00 + data[o + 2] * q01 + data[o + 5] * q02;
-    const H1 = data[o + 1] * q00 + data[o + 4] * q01 + data[o + 7] * q02;
-    const H2 = data[o + 3] * q00 + data[o + 6] * q01 + data[o + 8] * q02;
-    const K0 = data[o] * r00 + data[o + 2] * r01 + data[o + 5] * r02;
-    const K1 = data[o + 1] * r00 + data[o + 4] * r01 + data[o + 7] * r02;
-    const K2 = data[o + 3] * r00 + data[o + 6] * r01 + data[o + 8] * r02;
-    F += G0 * a00 + G1 * a01 + G2 * a02;
-    Fx += G0 * b00d + G1 * b01d + G2 * b02d;
-    Fxx += G0 * c00 + G1 * c01 + G2 * c02;
-    Fy += H0 * a00 + H1 * a01 + H2 * a02;
-    Fxy += H0 * b00d + H1 * b01d + H2 * b02d;
-    Fyy += K0 * a00 + K1 * a01 + K2 * a02;
+    const A0 = data[oA] * a00 + data[oA + 1] * a01 + data[oA + 3] * a02 + data[oB] * a10 + data[oB + 1] * a11 + data[oB + 3] * a12;
+    const A1 = data[oA + 2] * a00 + data[oA + 4] * a01 + data[oA + 6] * a02 + data[oB + 2] * a10 + data[oB + 4] * a11 + data[oB + 6] * a12;
+    const A2 = data[oA + 5] * a00 + data[oA + 7] * a01 + data[oA + 8] * a02 + data[oB + 5] * a10 + data[oB + 7] * a11 + data[oB + 8] * a12;
+    const B0 = data[oA] * b00d + data[oA + 1] * b01d + data[oA + 3] * b02d + data[oB] * b10d + data[oB + 1] * b11d + data[oB + 3] * b12d;
+    const B1 = data[oA + 2] * b00d + data[oA + 4] * b01d + data[oA + 6] * b02d + data[oB + 2] * b10d + data[oB + 4] * b11d + data[oB + 6] * b12d;
+    const B2 = data[oA + 5] * b00d + data[oA + 7] * b01d + data[oA + 8] * b02d + data[oB + 5] * b10d + data[oB + 7] * b11d + data[oB + 8] * b12d;
+    F += A0 * p00 + A1 * p01 + A2 * p02;
+    Fy += A0 * q00 + A1 * q01 + A2 * q02;
+    Fyy += A0 * r00 + A1 * r01 + A2 * r02;
+    Fx += B0 * p00 + B1 * p01 + B2 * p02;
+    Fxy += B0 * q00 + B1 * q01 + B2 * q02;
   }
-  // corner (i+1, j)
-  o = ((i + 1) * nT + j) * STRIDE;
   {
-    const G0 = data[o] * p00 + data[o + 2] * p01 + data[o + 5] * p02;
-    const G1 = data[o + 1] * p00 + data[o + 4] * p01 + data[o + 7] * p02;
-    const G2 = data[o + 3] * p00 + data[o + 6] * p01 + data[o + 8] * p02;
-    const H0 = data[o] * q00 + data[o + 2] * q01 + data[o + 5] * q02;
-    const H1 = data[o + 1] * q00 + data[o + 4] * q01 + data[o + 7] * q02;
-    const H2 = data[o + 3] * q00 + data[o + 6] * q01 + data[o + 8] * q02;
-    const K0 = data[o] * r00 + data[o + 2] * r01 + data[o + 5] * r02;
-    const K1 = data[o + 1] * r00 + data[o + 4] * r01 + data[o + 7] * r02;
-    const K2 = data[o + 3] * r00 + data[o + 6] * r01 + data[o + 8] * r02;
-    F += G0 * a10 + G1 * a11 + G2 * a12;
-    Fx += G0 * b10d + G1 * b11d + G2 * b12d;
-    Fxx += G0 * c10 + G1 * c11 + G2 * c12;
-    Fy += H0 * a10 + H1 * a11 + H2 * a12;
-    Fxy += H0 * b10d + H1 * b11d + H2 * b12d;
-    Fyy += K0 * a10 + K1 * a11 + K2 * a12;
-  }
-  // corner (i, j+1)
-  o = (i * nT + j + 1) * STRIDE;
-  {
-    const G0 = data[o] * p10 + data[o + 2] * p11 + data[o + 5] * p12;
-    const G1 = data[o + 1] * p10 + data[o + 4] * p11 + data[o + 7] * p12;
-    const G2 = data[o + 3] * p10 + data[o + 6] * p11 + data[o + 8] * p12;
-    const H0 = data[o] * q10 + data[o + 2] * q11 + data[o + 5] * q12;
-    const H1 = data[o + 1] * q10 + data[o + 4] * q11 + data[o + 7] * q12;
-    const H2 = data[o + 3] * q10 + data[o + 6] * q11 + data[o + 8] * q12;
-    const K0 = data[o] * r10 + data[o + 2] * r11 + data[o + 5] * r12;
-    const K1 = data[o + 1] * r10 + data[o + 4] * r11 + data[o + 7] * r12;
-    const K2 = data[o + 3] * r10 + data[o + 6] * r11 + data[o + 8] * r12;
-    F += G0 * a00 + G1 * a01 + G2 * a02;
-    Fx += G0 * b00d + G1 * b01d + G2 * b02d;
-    Fxx += G0 * c00 + G1 * c01 + G2 * c02;
-    Fy += H0 * a00 + H1 * a01 + H2 * a02;
-    Fxy += H0 * b00d + H1 * b01d + H2 * b02d;
-    Fyy += K0 * a00 + K1 * a01 + K2 * a02;
-  }
-  // corner (i+1, j+1)
-  o = ((i + 1) * nT + j + 1) * STRIDE;
-  {
-    const G0 = data[o] * p10 + data[o + 2] * p11 + data[o + 5] * p12;
-    const G1 = data[o + 1] * p10 + data[o + 4] * p11 + data[o + 7] * p12;
-    const G2 = data[o + 3] * p10 + data[o + 6] * p11 + data[o + 8] * p12;
-    const H0 = data[o] * q10 + data[o + 2] * q11 + data[o + 5] * q12;
-    const H1 = data[o + 1] * q10 + data[o + 4] * q11 + data[o + 7] * q12;
-    const H2 = data[o + 3] * q10 + data[o + 6] * q11 + data[o + 8] * q12;
-    const K0 = data[o] * r10 + data[o + 2] * r11 + data[o + 5] * r12;
-    const K1 = data[o + 1] * r10 + data[o + 4] * r11 + data[o + 7] * r12;
-    const K2 = data[o + 3] * r10 + data[o + 6] * r11 + data[o + 8] * r12;
-    F += G0 * a10 + G1 * a11 + G2 * a12;
-    Fx += G0 * b10d + G1 * b11d + G2 * b12d;
-    Fxx += G0 * c10 + G1 * c11 + G2 * c12;
-    Fy += H0 * a10 + H1 * a11 + H2 * a12;
-    Fxy += H0 * b10d + H1 * b11d + H2 * b12d;
-    Fyy += K0 * a10 + K1 * a11 + K2 * a12;
+    const A0 = data[oC] * a00 + data[oC + 1] * a01 + data[oC + 3] * a02 + data[oD] * a10 + data[oD + 1] * a11 + data[oD + 3] * a12;
+    const A1 = data[oC + 2] * a00 + data[oC + 4] * a01 + data[oC + 6] * a02 + data[oD + 2] * a10 + data[oD + 4] * a11 + data[oD + 6] * a12;
+    const A2 = data[oC + 5] * a00 + data[oC + 7] * a01 + data[oC + 8] * a02 + data[oD + 5] * a10 + data[oD + 7] * a11 + data[oD + 8] * a12;
+    const B0 = data[oC] * b00d + data[oC + 1] * b01d + data[oC + 3] * b02d + data[oD] * b10d + data[oD + 1] * b11d + data[oD + 3] * b12d;
+    const B1 = data[oC + 2] * b00d + data[oC + 4] * b01d + data[oC + 6] * b02d + data[oD + 2] * b10d + data[oD + 4] * b11d + data[oD + 6] * b12d;
+    const B2 = data[oC + 5] * b00d + data[oC + 7] * b01d + data[oC + 8] * b02d + data[oD + 5] * b10d + data[oD + 7] * b11d + data[oD + 8] * b12d;
+    F += A0 * p10 + A1 * p11 + A2 * p12;
+    Fy += A0 * q10 + A1 * q11 + A2 * q12;
+    Fyy += A0 * r10 + A1 * r11 + A2 * r12;
+    Fx += B0 * p10 + B1 * p11 + B2 * p12;
+    Fxy += B0 * q10 + B1 * q11 + B2 * q12;
   }
   // the interpolant is H = G/T; G = T H and its (u = ln d, v = ln T) derivatives
   const Hu = Fx * invHu, Hv = Fy * invHv;
-  const Huu = Fxx * invHu * invHu, Huv = Fxy * invHu * invHv, Hvv = Fyy * invHv * invHv;
+  const Huv = Fxy * invHu * invHv, Hvv = Fyy * invHv * invHv;
   F = T * F;
   let Fu = T * Hu;
   let Fv = F + T * Hv;
-  let Fuu = T * Huu;
   let Fuv = T * (Hu + Huv);
   let Fvv = Fv + T * (Hv + Hvv);
   // add the T = 0 part F0(u) (quintic Hermite in u alone; it has no v-dependence)
@@ -851,20 +803,18 @@ export function tablePairGas(table: FreeEnergyTable, d: number, T: number, out: 
     const c0 = 3 * i;
     F += cold[c0] * a00 + cold[c0 + 1] * a01 + cold[c0 + 2] * a02 + cold[c0 + 3] * a10 + cold[c0 + 4] * a11 + cold[c0 + 5] * a12;
     Fu += (cold[c0] * b00d + cold[c0 + 1] * b01d + cold[c0 + 2] * b02d + cold[c0 + 3] * b10d + cold[c0 + 4] * b11d + cold[c0 + 5] * b12d) * invHu;
-    Fuu += (cold[c0] * c00 + cold[c0 + 1] * c01 + cold[c0 + 2] * c02 + cold[c0 + 3] * c10 + cold[c0 + 4] * c11 + cold[c0 + 5] * c12) * invHu * invHu;
   }
   // and the analytic pair part Δ(u, v)
   const ref = kernelRef;
   if (kernelPairParts(d, T, u, v, ref)) {
     F += ref[5]; Fu += ref[6]; Fv += ref[7];
-    Fuu += ref[8]; Fuv += ref[9]; Fvv += ref[10];
+    Fuv += ref[9]; Fvv += ref[10];
   }
   const invT = 1 / T;
   const P = d * Fu;
   const eps = F - Fv; // energy per unit mass of ρYe
   const sig = -Fv * invT; // entropy per unit mass of ρYe
   out.pressure = P;
-  out.dPdD = Fu + Fuu;
   out.dPdT = d * Fuv * invT;
   out.energy = d * eps;
   out.dUdD = eps + Fu - Fuv; // ε + d ε_d
@@ -879,7 +829,6 @@ export function tablePairGas(table: FreeEnergyTable, d: number, T: number, out: 
   const e0d = 6 * x2 - 6 * x, e1d = 3 * x2 - 4 * x + 1, e2d = -e0d, e3d = 3 * m2 - 4 * mx + 1;
   const f0 = 2 * y3 - 3 * y2 + 1, f1 = (y3 - 2 * y2 + y) * hv, f2 = 1 - f0, f3 = -(n3 - 2 * n2 + my) * hv;
   const f0d = 6 * y2 - 6 * y, f1d = (3 * y2 - 4 * y + 1) * hv, f2d = -f0d, f3d = (3 * n2 - 4 * my + 1) * hv;
-  const oA = (i * nT + j) * STRIDE, oB = ((i + 1) * nT + j) * STRIDE, oC = (i * nT + j + 1) * STRIDE, oD = ((i + 1) * nT + j + 1) * STRIDE;
   // η (value only)
   {
     const q = 9;

@@ -143,6 +143,11 @@ export interface EvaluateOptions {
   /** Also return the three normalized Maxwell-relation residuals per point. */
   maxwellResiduals?: boolean;
   /**
+   * Fill the per-component columns (`components`; default true). false leaves them empty (length 0)
+   * and saves 45 of the ~80 columns' memory and writes, for callers that need only the totals.
+   */
+  breakdown?: boolean;
+  /**
    * Write into this earlier result instead of allocating a new one (same number of points and the
    * same `maxwellResiduals` setting; every column is overwritten). For callers that evaluate batch
    * after batch: the first touch of fresh memory costs more than the table evaluation itself here
@@ -176,7 +181,10 @@ export interface EvaluateResult {
   n: number;
   method: 'exact' | 'table';
   constantsSet: string;
+  /** Per-component columns; empty (length 0) when evaluated with `breakdown: false`. */
   components: Record<ComponentName, ComponentColumns>;
+  /** Whether `components` holds the per-component columns (options.breakdown). */
+  breakdown: boolean;
   /** Which components were summed into the totals. */
   included: readonly ComponentName[];
   // inputs, as evaluated (per point)
@@ -297,7 +305,7 @@ export interface MixtureData {
 export function mixtureOf(comp: ResolvedComposition): MixtureData | null {
   if (comp.species === null) return null;
   const z53 = new Float64Array(comp.species.count);
-  for (let j = 0; j < z53.length; j++) z53[j] = Math.pow(comp.species.z[j], 5 / 3);
+  for (let j = 0; j < z53.length; j++) z53[j] = comp.species.z[j] * Math.cbrt(comp.species.z[j] * comp.species.z[j]); // Z^{5/3}, as coulomb.ts
   return { count: comp.species.count, z53, y: comp.species.y };
 }
 
@@ -505,15 +513,17 @@ export function checkMethod(options: EvaluateOptions | undefined): void {
  * Allocate an empty result of n points (status OK; columns zero until stored, and set to NaN by
  * failPoint for a failed point, which is cheaper than pre-filling every column with NaN).
  */
-export function allocateResult(n: number, included: readonly ComponentName[], maxwell: boolean): EvaluateResult {
+export function allocateResult(n: number, included: readonly ComponentName[], maxwell: boolean, breakdown = true): EvaluateResult {
   // one buffer for every column (a single allocation instead of ~80)
-  const count = TOTAL_COLUMNS.length + COMPONENT_NAMES.length * COMPONENT_COLUMNS.length + 5 + (maxwell ? 3 : 0);
+  const count = TOTAL_COLUMNS.length + (breakdown ? COMPONENT_NAMES.length * COMPONENT_COLUMNS.length : 0) + 5 + (maxwell ? 3 : 0);
   const buffer = new Float64Array(count * n);
   let next = 0;
   const col = () => buffer.subarray(n * next, n * ++next);
+  const empty = new Float64Array(0);
+  const ccol = breakdown ? col : () => empty;
   const comp = (): ComponentColumns => ({
-    pressure: col(), specificEnergy: col(), specificEntropy: col(), dPdRho: col(), dPdT: col(),
-    dEdRho: col(), dEdT: col(), dSdRho: col(), dSdT: col(),
+    pressure: ccol(), specificEnergy: ccol(), specificEntropy: ccol(), dPdRho: ccol(), dPdT: ccol(),
+    dEdRho: ccol(), dEdT: ccol(), dSdRho: ccol(), dSdT: ccol(),
   });
   // An object literal with every property (not added one by one), so that it keeps a fast shape.
   const r: EvaluateResult = {
@@ -522,6 +532,7 @@ export function allocateResult(n: number, included: readonly ComponentName[], ma
     constantsSet: CONSTANTS_SET,
     included,
     components: { electrons: comp(), positrons: comp(), ions: comp(), photons: comp(), coulomb: comp() },
+    breakdown,
     density: col(), temperature: col(), abar: col(), zbar: col(), ye: col(),
     pressure: col(), specificEnergy: col(), specificEntropy: col(), dPdRho: col(), dPdT: col(), dEdRho: col(),
     dEdT: col(), dSdRho: col(), dSdT: col(), dPdAbar: col(), dPdZbar: col(), dEdAbar: col(), dEdZbar: col(),
@@ -593,11 +604,13 @@ export function storePoint(res: EvaluateResult, i: number, k: PointKernel, zmax:
   res.coulombGamma[i] = k.coulombGamma;
   res.radiationPressureFraction[i] = k.include.photons ? k.photons.P / P : 0;
   const inc = k.include;
-  storeComponent(res.components.electrons, inc.electrons ? k.electrons : ZERO_TERMS, i);
-  storeComponent(res.components.positrons, inc.positrons ? k.positrons : ZERO_TERMS, i);
-  storeComponent(res.components.ions, inc.ions ? k.ions : ZERO_TERMS, i);
-  storeComponent(res.components.photons, inc.photons ? k.photons : ZERO_TERMS, i);
-  storeComponent(res.components.coulomb, inc.coulomb ? k.coulomb : ZERO_TERMS, i);
+  if (res.breakdown) {
+    storeComponent(res.components.electrons, inc.electrons ? k.electrons : ZERO_TERMS, i);
+    storeComponent(res.components.positrons, inc.positrons ? k.positrons : ZERO_TERMS, i);
+    storeComponent(res.components.ions, inc.ions ? k.ions : ZERO_TERMS, i);
+    storeComponent(res.components.photons, inc.photons ? k.photons : ZERO_TERMS, i);
+    storeComponent(res.components.coulomb, inc.coulomb ? k.coulomb : ZERO_TERMS, i);
+  }
   res.warnings[i] = k.warnings(rho, T, res.abar[i], zmax);
   if (res.maxwell) {
     const a = rho * rho * tot.dEdRho;
@@ -620,7 +633,7 @@ export function failPoint(res: EvaluateResult, i: number, status: number, messag
   res.messages[i] = message;
   res.warnings[i] = 0;
   for (const k of TOTAL_COLUMNS) res[k][i] = NaN;
-  for (const c of COMPONENT_NAMES) for (const k of COMPONENT_COLUMNS) res.components[c][k][i] = NaN;
+  if (res.breakdown) for (const c of COMPONENT_NAMES) for (const k of COMPONENT_COLUMNS) res.components[c][k][i] = NaN;
   if (res.maxwell) res.maxwell.energy[i] = res.maxwell.entropyT[i] = res.maxwell.entropyRho[i] = NaN;
 }
 
@@ -663,7 +676,7 @@ export function evaluate(input: StateInput, options: EvaluateOptions = {}): Eval
   const { n, comp } = prepareComposition(input, [['density', input.density], ['temperature', input.temperature]]);
   const rhoCol = readFloat64Column(input.density, n, 'density');
   const tCol = readFloat64Column(input.temperature, n, 'temperature');
-  const res = reuseOrAllocate(options.into, n, included, options.maxwellResiduals === true);
+  const res = reuseOrAllocate(options.into, n, included, options.maxwellResiduals === true, options.breakdown !== false);
   res.density.set(rhoCol);
   res.temperature.set(tCol);
   res.abar.set(comp.abar);
@@ -707,10 +720,10 @@ export function evaluate(input: StateInput, options: EvaluateOptions = {}): Eval
 }
 
 /** options.into checked and reset, or a fresh result. */
-function reuseOrAllocate(into: EvaluateResult | undefined, n: number, included: readonly ComponentName[], maxwell: boolean): EvaluateResult {
-  if (into === undefined) return allocateResult(n, included, maxwell);
-  if (!into || typeof into !== 'object' || into.n !== n || !(into.pressure instanceof Float64Array) || into.pressure.length !== n || (into.maxwell !== undefined) !== maxwell) {
-    throw new Error(`options.into must be a result of evaluate with the same number of points (${n}) and the same maxwellResiduals setting`);
+function reuseOrAllocate(into: EvaluateResult | undefined, n: number, included: readonly ComponentName[], maxwell: boolean, breakdown: boolean): EvaluateResult {
+  if (into === undefined) return allocateResult(n, included, maxwell, breakdown);
+  if (!into || typeof into !== 'object' || into.n !== n || !(into.pressure instanceof Float64Array) || into.pressure.length !== n || (into.maxwell !== undefined) !== maxwell || into.breakdown !== breakdown) {
+    throw new Error(`options.into must be a result of evaluate with the same number of points (${n}) and the same maxwellResiduals and breakdown settings`);
   }
   into.included = included;
   into.status.fill(0);
@@ -759,6 +772,7 @@ function evaluateTableBatch(
   const gP = cg.pressure, gE = cg.specificEnergy, gS = cg.specificEntropy, gPr = cg.dPdRho, gPT = cg.dPdT, gEr = cg.dEdRho, gET = cg.dEdT, gSr = cg.dSdRho, gST = cg.dSdT;
   const kP = cc.pressure, kE = cc.specificEnergy, kS = cc.specificEntropy, kPr = cc.dPdRho, kPT = cc.dPdT, kEr = cc.dEdRho, kET = cc.dEdT, kSr = cc.dSdRho, kST = cc.dSdT;
   const mx = res.maxwell;
+  const breakdown = res.breakdown;
   for (let i = 0; i < n; i++) {
     const rho = rhoCol[i];
     const T = tCol[i];
@@ -847,18 +861,20 @@ function evaluateTableBatch(
     oNp[i] = pair.positronDensity;
     oGam[i] = co.gamma;
     oRad[i] = incG ? phP / P : 0;
-    if (incE) { eP[i] = lP; eE[i] = le; eS[i] = ls; ePr[i] = lPr; ePT[i] = lPT; eEr[i] = lEr; eET[i] = lET; eSr[i] = lSr; eST[i] = lST; }
-    else { eP[i] = 0; eE[i] = 0; eS[i] = 0; ePr[i] = 0; ePT[i] = 0; eEr[i] = 0; eET[i] = 0; eSr[i] = 0; eST[i] = 0; }
-    if (incP) { pP[i] = qP; pE[i] = qe; pS[i] = qs; pPr[i] = qPr; pPT[i] = qPT; pEr[i] = qEr; pET[i] = qET; pSr[i] = qSr; pST[i] = qST; }
-    else { pP[i] = 0; pE[i] = 0; pS[i] = 0; pPr[i] = 0; pPT[i] = 0; pEr[i] = 0; pET[i] = 0; pSr[i] = 0; pST[i] = 0; }
-    if (incI) { iP[i] = ionP; iE[i] = ionE; iS[i] = ionS; iPr[i] = ionPr; iPT[i] = ionPT; iEr[i] = 0; iET[i] = ionET; iSr[i] = ionSr; iST[i] = ionST; }
-    else { iP[i] = 0; iE[i] = 0; iS[i] = 0; iPr[i] = 0; iPT[i] = 0; iEr[i] = 0; iET[i] = 0; iSr[i] = 0; iST[i] = 0; }
-    if (incG) { gP[i] = phP; gE[i] = phE; gS[i] = phS; gPr[i] = 0; gPT[i] = phPT; gEr[i] = phEr; gET[i] = phET; gSr[i] = phSr; gST[i] = phST; }
-    else { gP[i] = 0; gE[i] = 0; gS[i] = 0; gPr[i] = 0; gPT[i] = 0; gEr[i] = 0; gET[i] = 0; gSr[i] = 0; gST[i] = 0; }
-    if (incC) {
-      kP[i] = co.pressure; kE[i] = co.energy; kS[i] = co.entropy; kPr[i] = co.dPdRho; kPT[i] = co.dPdT;
-      kEr[i] = co.dEdRho; kET[i] = co.dEdT; kSr[i] = co.dSdRho; kST[i] = co.dSdT;
-    } else { kP[i] = 0; kE[i] = 0; kS[i] = 0; kPr[i] = 0; kPT[i] = 0; kEr[i] = 0; kET[i] = 0; kSr[i] = 0; kST[i] = 0; }
+    if (breakdown) {
+      if (incE) { eP[i] = lP; eE[i] = le; eS[i] = ls; ePr[i] = lPr; ePT[i] = lPT; eEr[i] = lEr; eET[i] = lET; eSr[i] = lSr; eST[i] = lST; }
+      else { eP[i] = 0; eE[i] = 0; eS[i] = 0; ePr[i] = 0; ePT[i] = 0; eEr[i] = 0; eET[i] = 0; eSr[i] = 0; eST[i] = 0; }
+      if (incP) { pP[i] = qP; pE[i] = qe; pS[i] = qs; pPr[i] = qPr; pPT[i] = qPT; pEr[i] = qEr; pET[i] = qET; pSr[i] = qSr; pST[i] = qST; }
+      else { pP[i] = 0; pE[i] = 0; pS[i] = 0; pPr[i] = 0; pPT[i] = 0; pEr[i] = 0; pET[i] = 0; pSr[i] = 0; pST[i] = 0; }
+      if (incI) { iP[i] = ionP; iE[i] = ionE; iS[i] = ionS; iPr[i] = ionPr; iPT[i] = ionPT; iEr[i] = 0; iET[i] = ionET; iSr[i] = ionSr; iST[i] = ionST; }
+      else { iP[i] = 0; iE[i] = 0; iS[i] = 0; iPr[i] = 0; iPT[i] = 0; iEr[i] = 0; iET[i] = 0; iSr[i] = 0; iST[i] = 0; }
+      if (incG) { gP[i] = phP; gE[i] = phE; gS[i] = phS; gPr[i] = 0; gPT[i] = phPT; gEr[i] = phEr; gET[i] = phET; gSr[i] = phSr; gST[i] = phST; }
+      else { gP[i] = 0; gE[i] = 0; gS[i] = 0; gPr[i] = 0; gPT[i] = 0; gEr[i] = 0; gET[i] = 0; gSr[i] = 0; gST[i] = 0; }
+      if (incC) {
+        kP[i] = co.pressure; kE[i] = co.energy; kS[i] = co.entropy; kPr[i] = co.dPdRho; kPT[i] = co.dPdT;
+        kEr[i] = co.dEdRho; kET[i] = co.dEdT; kSr[i] = co.dSdRho; kST[i] = co.dSdT;
+      } else { kP[i] = 0; kE[i] = 0; kS[i] = 0; kPr[i] = 0; kPT[i] = 0; kEr[i] = 0; kET[i] = 0; kSr[i] = 0; kST[i] = 0; }
+    }
     // warnings (PointKernel.warnings)
     const zmax = cZmax[i];
     let w = 0;

@@ -210,3 +210,23 @@ test('options.into: a second batch written into the first result equals a fresh 
   assert.deepEqual(again, evaluate(inp2, { method: 'table', table: onsetTable }));
   assert.throws(() => evaluate({ ...inp1, density: [1, 2] , temperature: 1e9 }, { method: 'table', table: onsetTable, into: first }), /options.into/);
 });
+
+test('options.breakdown false: the same totals and derived quantities bit for bit (table and exact), empty component columns; into must match the setting', () => {
+  const inp = { density: [1e-2, 1, 3e2, -1], temperature: [2e8, 5e9, 1e10, 1e9], abar: [12, 4, 56, 4], zbar: [6, 2, 26, 2] };
+  for (const opts of [{ method: 'table' as const, table: onsetTable }, { method: 'exact' as const }]) {
+    const full = evaluate(inp, opts);
+    const lean = evaluate(inp, { ...opts, breakdown: false });
+    assert.equal(full.breakdown, true);
+    assert.equal(lean.breakdown, false);
+    for (const k of ['pressure', 'specificEnergy', 'specificEntropy', 'dPdRho', 'dPdT', 'dEdT', 'dSdRho', 'cv', 'gamma1', 'soundSpeed', 'eta', 'positronDensity', 'coulombGamma'] as const) {
+      assert.deepEqual(lean[k], full[k], k);
+    }
+    assert.deepEqual(lean.status, full.status);
+    assert.deepEqual(lean.warnings, full.warnings);
+    assert.ok(full.components.positrons.pressure.length === 4 && full.components.coulomb.dSdT.length === 4);
+    assert.equal(lean.components.positrons.pressure.length, 0);
+    assert.equal(lean.components.electrons.dSdT.length, 0);
+    assert.throws(() => evaluate(inp, { ...opts, into: full, breakdown: false }), /breakdown/);
+    assert.equal(evaluate(inp, { ...opts, into: lean, breakdown: false }), lean);
+  }
+});
