@@ -137,6 +137,28 @@ for (const method of tableOnly ? [] : METHODS) {
   const sorted = { density: pk(td), temperature: pk(tt), abar: pk(ta), zbar: pk(tz) };
   const reuse2 = evaluate(sorted, { method: 'table', table });
   show('evaluate (table), into, sorted by ρYe, T', runs(N, () => void evaluate(sorted, { method: 'table', table, into: reuse2 })));
+  // totals and derived quantities only (breakdown: false skips the 45 per-component columns)
+  const lean = evaluate(inp, { method: 'table', table, breakdown: false });
+  const leanRate = show('evaluate (table), into, breakdown off', runs(N, () => void evaluate(inp, { method: 'table', table, into: lean, breakdown: false })));
+  show('evaluate (table), new result, breakdown off', runs(N, () => void evaluate(inp, { method: 'table', table, breakdown: false })));
+  // neighbouring zones, as a hydro code's grid sends them: a seeded random walk in (log ρ, log T)
+  // of 0.025 dex steps over the table, one composition (C/O-like Abar 14, Zbar 7)
+  const walk = { density: new Float64Array(N), temperature: new Float64Array(N), abar: new Float64Array(N).fill(14), zbar: new Float64Array(N).fill(7) };
+  {
+    const rw = mulberry32(4242);
+    let ld = 0, lt = 7;
+    for (let i = 0; i < N; i++) {
+      ld = Math.min(g.logDensityYeMax - 0.5, Math.max(g.logDensityYeMin + 0.5, ld + (rw() - 0.5) * 0.05));
+      lt = Math.min(g.logTemperatureMax - 0.1, Math.max(g.logTemperatureMin + 0.1, lt + (rw() - 0.5) * 0.05));
+      walk.density[i] = 2 * 10 ** ld;
+      walk.temperature[i] = 10 ** lt;
+    }
+  }
+  const walkFull = evaluate(walk, { method: 'table', table });
+  show('evaluate (table), into, neighbouring zones', runs(N, () => void evaluate(walk, { method: 'table', table, into: walkFull })));
+  const walkLean = evaluate(walk, { method: 'table', table, breakdown: false });
+  const walkRate = show('  … and breakdown off', runs(N, () => void evaluate(walk, { method: 'table', table, into: walkLean, breakdown: false })));
+  console.log(`${'goal (issue 4): 3 M points/s on one core'.padEnd(44)} reached ${((100 * leanRate.cpu[1]) / 3e6).toFixed(0)} % (random states), ${((100 * walkRate.cpu[1]) / 3e6).toFixed(0)} % (neighbouring zones), medians per CPU-second`);
   const M = Math.min(N, 5000);
   const sub = (x: Float64Array) => x.subarray(0, M);
   const exact = show('evaluate (exact), same states', runs(M, () => void evaluate({ density: sub(td), temperature: sub(tt), abar: sub(ta), zbar: sub(tz) }), 3));
