@@ -9,6 +9,8 @@
  * need a signed-in user (the account graph, later) will add their own resolver without touching
  * this one. Errors carry the REST problem kind in `extensions.code` and the problem itself in
  * `extensions.problem`. The landing page is off (it would load from a CDN); CSRF prevention is on.
+ * Each operation is held to a depth, field-count and evaluation-count limit (limits.ts), and parsed
+ * documents are cached in a small bounded cache (document-cache.ts).
  */
 import fs from 'node:fs';
 import path from 'node:path';
@@ -23,6 +25,8 @@ import type { Services } from '../services.js';
 import type { ApiKeyContext, Scope } from '../keys/types.js';
 import { ProblemError, PROBLEM_BASE, databaseUnavailable } from '../shared/problem.js';
 import { setRateLimitHeaders } from '../usage/rate-limit.js';
+import { queryLimitsRule } from './limits.js';
+import { documentCache } from './document-cache.js';
 
 export const SDL_DIR = path.join(repoRoot, 'schema', 'graphql');
 /** GraphQL bodies are for interactive and moderate batches; large ones belong in REST binary. */
@@ -76,9 +80,15 @@ export async function graphqlRoutes(services: Services, resolvers: Resolvers[]):
     // time outside NODE_ENV=test and hang Ctrl-C
     stopOnTerminationSignals: false,
     includeStacktraceInErrorResponses: false,
+    // depth, field-count and evaluation-count limits per operation (limits.ts)
+    validationRules: [queryLimitsRule()],
+    // parsed documents, keyed by caller-chosen text: a small bounded cache (document-cache.ts)
+    documentStore: documentCache(),
     plugins: [ApolloServerPluginLandingPageDisabled(), logErrors],
     formatError(formatted: GraphQLFormattedError, error: unknown): GraphQLFormattedError {
-      const unwrapped = unwrapResolverError(error);
+      let unwrapped = unwrapResolverError(error);
+      // a validation rule of ours (limits.ts) carries its problem as the original error
+      if (unwrapped instanceof GraphQLError && unwrapped.originalError instanceof ProblemError) unwrapped = unwrapped.originalError;
       // an unreachable database is a 503 database-unavailable problem here as on REST
       const original = databaseUnavailable(unwrapped) ?? unwrapped;
       if (original instanceof ProblemError) {
