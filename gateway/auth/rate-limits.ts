@@ -5,6 +5,7 @@
  * counts the same attempts. The 429 answers are the same whether or not the address has an
  * account — the address counts as a key either way — so they reveal nothing about who signed up.
  */
+import { createHash } from 'node:crypto';
 import { ipKeyGenerator, rateLimit, type Options } from 'express-rate-limit';
 import type { Request, RequestHandler } from 'express';
 import type { Knex } from 'knex';
@@ -21,9 +22,12 @@ export interface AuthRateLimits {
   stores: PostgresRateLimitStore[];
 }
 
+// The address is whatever the caller sent (up to the 16 kB body limit, checked only later by the
+// route): the counter is keyed by its hash, so every key held in memory and in rate_limit_windows
+// is 43 characters whatever was sent.
 const addressKey = (req: Request) => {
   const email = (req.body as { email?: unknown } | undefined)?.email;
-  return typeof email === 'string' ? email.trim().toLowerCase() : '(none)';
+  return typeof email === 'string' ? createHash('sha256').update(email.trim().toLowerCase()).digest('base64url') : '(none)';
 };
 const ipKey = (req: Request) => ipKeyGenerator(req.ip ?? '0.0.0.0');
 
