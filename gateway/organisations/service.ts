@@ -145,8 +145,10 @@ export class OrganisationService {
   async create(actor: Actor, name: string): Promise<OrganisationView> {
     return this.db.transaction(async (trx) => {
       let slug = slugify(name);
-      for (let attempt = 0; await store.slugTaken(trx, slug); attempt++) slug = `${slugify(name).slice(0, 33)}-${newOpaqueToken().slice(0, 6).toLowerCase().replace(/[^a-z0-9]/g, 'x')}`;
-      const org = await store.insertOrganisation(trx, { name, slug });
+      // the insert itself claims the slug: a check before it raced with a concurrent creation of
+      // the same slug (a 500 on the unique index, found by the route fuzzer)
+      let org: OrganisationRow | undefined;
+      while (!(org = await store.insertOrganisationIfSlugFree(trx, { name, slug }))) slug = `${slugify(name).slice(0, 33)}-${newOpaqueToken().slice(0, 6).toLowerCase().replace(/[^a-z0-9]/g, 'x')}`;
       await trx('memberships').insert({ user_id: actor.userId, organisation_id: org.id, role: 'owner' });
       await this.audit.record({ organisationId: org.id, actor, action: 'organisation.created', target: { type: 'organisation', id: org.id }, details: { name }, ip: actor.ip ?? null }, trx);
       return view({ ...org, member_count: 1 }, 'owner');

@@ -28,6 +28,12 @@ export async function insertOrganisation(db: Knex, row: { name: string; slug: st
   return inserted as OrganisationRow;
 }
 
+/** Inserts the organisation unless its slug is taken (then undefined); waits for a concurrent insert of the same slug to decide. */
+export async function insertOrganisationIfSlugFree(db: Knex, row: { name: string; slug: string }): Promise<OrganisationRow | undefined> {
+  const [inserted] = await db('organisations').insert(row).onConflict('slug').ignore().returning('*');
+  return inserted as OrganisationRow | undefined;
+}
+
 export async function slugTaken(db: Knex, slug: string): Promise<boolean> {
   return !!(await db('organisations').where({ slug }).first('id'));
 }
