@@ -3,7 +3,9 @@
  * Starts its own throw-away PostgreSQL cluster (FW_SOAK_PG_PORT, default 54349; folder
  * <data dir>/pg-soak-<port>), the local mail catcher and payments fake, and the default free-energy
  * table, as `npm test` does; then runs each part in turn:
- *   fuzz — tests/reliability/fuzz-routes.ts at FUZZ_REQUESTS (default 10 000) requests, seed FUZZ_SEED.
+ *   fuzz — tests/reliability/fuzz-routes.ts at FUZZ_REQUESTS (default 10 000) requests, seed FUZZ_SEED,
+ *          after its warm-up of every route; the heap after GC must end within FW_SOAK_HEAP_MARGIN_MB
+ *          (default 10; measured +6.4 MB, nearly all JIT code, at 10 000 requests) of its baseline after the warm-up.
  *   load — tests/reliability/load-runner.ts: each plan at 3× its rate for FW_SOAK_LOAD_SECONDS (default
  *          10) s, capped at FW_SOAK_MAX_RATE (default 3000/s); rate limits per window and exact metering.
  * Exit status 1 when a part's goal is missed (e.g. any 5xx from the fuzz).
@@ -34,10 +36,11 @@ const fuzzPart: SoakPart = {
   async run() {
     const { createDb } = await import('../gateway/db.js');
     const { startTestGateway } = await import('../tests/support/gateway.js');
-    const { fuzzRoutes, formatFigures } = await import('../tests/reliability/fuzz-routes.js');
+    const { fuzzRoutes, formatFigures, heapVerdict } = await import('../tests/reliability/fuzz-routes.js');
     const { prepareFuzzCredentials } = await import('../tests/reliability/fuzz-setup.js');
     const seed = Number(process.env['FUZZ_SEED'] ?? 20_261_202);
     const requests = Number(process.env['FUZZ_REQUESTS'] ?? 10_000);
+    const heapMarginMb = Number(process.env['FW_SOAK_HEAP_MARGIN_MB'] ?? 10);
     const gateway = await startTestGateway({ JOBS_IN_PROCESS_WORKER: 'false' });
     const db = createDb(process.env['DATABASE_URL']!, 2);
     try {
@@ -45,8 +48,10 @@ const fuzzPart: SoakPart = {
       const figures = await fuzzRoutes({ baseUrl: gateway.url, seed, requests, credentials, log });
       await credentials.close();
       console.log(formatFigures(figures));
+      const heap = heapVerdict(figures, heapMarginMb * 1024 * 1024);
+      console.log(heap.line);
       for (const f of figures.findings.slice(0, 20)) console.log(`  finding ${f.kind}: ${f.method} ${f.url} → ${f.status}\n    request: ${f.request}\n    answer: ${f.answer}`);
-      return figures.serverErrors === 0 && figures.findings.length === 0 && figures.healthFailures === 0;
+      return figures.serverErrors === 0 && figures.findings.length === 0 && figures.healthFailures === 0 && heap.held;
     } finally {
       await gateway.close();
       await db.destroy();

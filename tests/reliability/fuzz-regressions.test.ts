@@ -75,3 +75,26 @@ test('finding 4: a GraphQL subscription (the schema has none) is a BAD_REQUEST e
   assert.equal(body.errors?.[0]?.extensions?.code, 'BAD_REQUEST', JSON.stringify(body));
   assert.match(body.errors![0]!.message, /subscription/i);
 });
+
+test('finding 5: organisations created at once under names with the same slug all succeed, each with its own slug', async () => {
+  const owner = await makeUser(db, 'slugrace');
+  const c = new Client(gateway.url);
+  assert.equal((await c.signIn(owner.email, owner.password)).status, 200);
+  const name = `Race group ${tag()}`;
+  // "X", "\"X\"" and "x!" all slug to "x": the warm-up of the fuzz sent two of them at once and got a 500
+  const answers = await Promise.all([name, `"${name}"`, `${name}!`, name.toUpperCase(), name, `"${name}"`].map((n) => c.post('/v1/organisations', { name: n })));
+  assert.deepEqual(answers.map((a) => a.status), [201, 201, 201, 201, 201, 201], JSON.stringify(answers.map((a) => a.body)));
+  const slugs = answers.map((a) => a.body.slug as string);
+  assert.equal(new Set(slugs).size, slugs.length);
+  assert.ok(slugs.every((s) => s.startsWith(name.toLowerCase().replace(/[^a-z0-9]+/g, '-').slice(0, 33))), slugs.join(' '));
+});
+
+test('review: 200 aliased evaluations in one GraphQL request are a 400 query-too-complex, none evaluated', async () => {
+  const query = `query($input: EvaluateInput!) { ${Array.from({ length: 200 }, (_, i) => `e${i}: evaluate(input: $input) { status }`).join(' ')} }`;
+  const input = { density: [1e6], temperature: [1e7], composition: { abar: 12, zbar: 6 }, fields: ['pressure'] };
+  const res = await fetch(`${gateway.url}/graphql`, { method: 'POST', headers: { authorization: `Bearer ${token}`, 'content-type': 'application/json' }, body: JSON.stringify({ query, variables: { input } }) });
+  const body = (await res.json()) as { data?: unknown; errors?: Array<{ message: string; extensions?: { code?: string } }> };
+  assert.equal(res.status, 400);
+  assert.equal(body.data, undefined);
+  assert.equal(body.errors?.[0]?.extensions?.code, 'query-too-complex', JSON.stringify(body));
+});

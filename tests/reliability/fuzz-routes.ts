@@ -11,8 +11,9 @@
  *
  * The properties checked on every answer: no status ≥ 500; every REST 4xx is
  * application/problem+json with string type/title/detail and a matching status; every GraphQL error
- * carries extensions.code. After each batch /healthz must answer 200, and the heap is measured
- * before and after (after a forced GC when the runtime allows it).
+ * carries extensions.code. After each batch /healthz must answer 200. The heap (after a forced GC)
+ * is read before any request, after a warm-up that touches every route (warmUpRequests: the
+ * baseline), after each batch and at the end; the test compares the end with the baseline.
  */
 import { randomUUID } from 'node:crypto';
 import v8 from 'node:v8';
@@ -158,6 +159,8 @@ export interface FuzzOptions {
   credentials: FuzzCredentials;
   batchSize?: number;
   concurrency?: number;
+  /** Touch every route once per body kind before the baseline is read (default true). */
+  warmUp?: boolean;
   log?: (line: string) => void;
 }
 
@@ -170,18 +173,27 @@ export interface FuzzFigures {
   msByRoute: Record<string, number>;
   /** 401 answers per route (with and without a credential sent). */
   unauthorizedByRoute: Record<string, number>;
+  /** 401 answers by the credential chosen and the problem kind answered. */
+  unauthorizedByKind: Record<string, number>;
   serverErrors: number;
   findings: FuzzFinding[];
   healthChecks: number;
   healthFailures: number;
   /** Responses that reached past authentication (status not 401/403 with a credential sent). */
   authenticatedAnswers: number;
-  /** Heap used (after forced GC when available): before any request, after the first (warm-up) batch, at the end. */
+  /** Requests of the warm-up (every route touched once per body kind), not counted in `requests`. */
+  warmUpRequests: number;
+  /**
+   * Heap used (after a forced GC when available, with the fuzzer's own batch out of scope): before
+   * any request; the baseline, after the warm-up; and at the end, each after a short settle.
+   */
   heapBeforeBytes: number;
   heapWarmBytes: number;
   heapAfterBytes: number;
   /** Heap used after each batch (after forced GC): a leak shows as a steady climb. */
   heapSeries: number[];
+  /** The highest of heapSeries. */
+  heapPeakBytes: number;
   gcForced: boolean;
   durationMs: number;
 }
@@ -319,6 +331,9 @@ const GRAPHQL_QUERIES = [
   '{',
   'query Q { me { id } } query Q { me { id } }',
   'query { me { ...F } } fragment F on User { ...F }',
+  // one request asking for many evaluations, and a fragment "bomb": refused by gateway/graphql/limits.ts
+  'query($input: EvaluateInput!) { ' + Array.from({ length: 200 }, (_, i) => `e${i}: evaluate(input: $input) { status }`).join(' ') + ' }',
+  'query { ...F0 } ' + Array.from({ length: 8 }, (_, i) => `fragment F${i} on Query { ${i === 7 ? 'plans { id }' : `...F${i + 1} `.repeat(8)} }`).join(' '),
 ];
 
 export interface FuzzRequest {
@@ -369,6 +384,32 @@ export const fuzzRequest: fc.Arbitrary<FuzzRequest> = fc.record({
   }),
   webhook: fc.record({ signature: fc.constantFrom('none', 'garbage', 'old-format') }),
 });
+
+/**
+ * The warm-up: every route once per kind of body (valid, mutated, malformed, random bytes,
+ * oversized), with the route's own credential and real path parameters; every kind of upload; every
+ * GraphQL query of the list, valid and mutated. It builds what the gateway builds once, on first use,
+ * and then keeps at a bounded size: request validators compiled per route, the GraphQL document
+ * cache, h5wasm (loaded by the first HDF5 upload: ~70 MB of module source, source map and wasm
+ * memory), JIT code. Other fields come from a seeded sample, so the warm-up is the same every run.
+ */
+export function warmUpRequests(seed: number): FuzzRequest[] {
+  const base = fc.sample(fuzzRequest, { seed, numRuns: 1 })[0]!;
+  const plain = (route: number, body: BodyChoice, i: number): FuzzRequest => ({
+    ...base,
+    route, method: '', auth: 'right', params: ['real', 'real', 'real'], query: [], headers: [], contentType: null, body,
+    oversize: 70 * 1024, graphql: { ...base.graphql, query: i, batch: false },
+  });
+  const out: FuzzRequest[] = [];
+  FUZZ_ROUTES.forEach((route, r) => {
+    for (const body of ['valid', 'mutated', 'malformed', 'bytes', 'oversized'] as const) out.push(plain(r, body, 0));
+    if (route.body === 'multipart') {
+      for (const file of ['csv', 'csv-garbage', 'binary-as-csv', 'fake-hdf5', 'empty', 'none', 'two-files'] as const) out.push({ ...plain(r, 'valid', 0), multipart: { file, fields: [] } });
+    }
+    if (route.body === 'graphql') GRAPHQL_QUERIES.forEach((_q, i) => out.push(plain(r, 'valid', i), plain(r, 'mutated', i)));
+  });
+  return out;
+}
 
 // ── building one HTTP request ────────────────────────────────────────────────────────────────
 
@@ -463,10 +504,14 @@ function multipartBody(r: FuzzRequest): { body: FormData; describe: string } {
 }
 
 export function buildRequest(baseUrl: string, r: FuzzRequest, c: FuzzCredentials): BuiltRequest {
-  const route = FUZZ_ROUTES[r.route]!;
+  const entry = FUZZ_ROUTES[r.route]!;
+  const method = r.method || entry.method;
+  // another method on the same path may be a destructive route (DELETE /v1/organisations/:orgId
+  // reached from PATCH's entry; it deleted the run's own organisation, and its key with it, midway
+  // through the soak): then it never targets the run's own organisation or session either
+  const route: FuzzRoute = { ...entry, destructive: entry.destructive || FUZZ_ROUTES.some((o) => o.destructive && o.path === entry.path && o.method === method) };
   let i = 0;
   const path = route.path.replace(/:([A-Za-z]+)/g, (_m, name: string) => paramValue(name, r.params[i++ % 3]!, r.garbageParam, c, route));
-  const method = r.method || route.method;
   const headers: Record<string, string> = { 'x-forwarded-for': `198.${18 + (r.route % 2)}.${r.bytes[0] ?? 1}.${1 + ((r.bytes[1] ?? 0) % 254)}` };
 
   // credentials: the one the route is for, most of the time
@@ -626,22 +671,33 @@ function heapAfterGc(gc: (() => void) | undefined): number {
   return process.memoryUsage().heapUsed;
 }
 
+/** Heap after GC once the last answers' short-lived state (1 s rate-limit windows, the meter's 1 s flush) is gone. */
+async function settledHeap(gc: (() => void) | undefined): Promise<number> {
+  await new Promise((resolve) => setTimeout(resolve, 1_500));
+  return heapAfterGc(gc);
+}
+
 export async function fuzzRoutes(options: FuzzOptions): Promise<FuzzFigures> {
   const { baseUrl, seed, requests, credentials } = options;
   const batchSize = options.batchSize ?? 100;
   const concurrency = options.concurrency ?? 4;
   const log = options.log ?? (() => undefined);
   const gc = gcFunction();
-  const started = performance.now();
+  let started = performance.now();
   const figures: FuzzFigures = {
-    seed, requests: 0, byStatus: {}, byRoute: {}, msByRoute: {}, unauthorizedByRoute: {}, serverErrors: 0, findings: [], healthChecks: 0, healthFailures: 0,
-    authenticatedAnswers: 0, heapBeforeBytes: heapAfterGc(gc), heapWarmBytes: 0, heapAfterBytes: 0, heapSeries: [], gcForced: !!gc, durationMs: 0,
+    seed, requests: 0, byStatus: {}, byRoute: {}, msByRoute: {}, unauthorizedByRoute: {}, unauthorizedByKind: {}, serverErrors: 0, findings: [], healthChecks: 0, healthFailures: 0,
+    authenticatedAnswers: 0, warmUpRequests: 0, heapBeforeBytes: await settledHeap(gc), heapWarmBytes: 0, heapAfterBytes: 0, heapSeries: [], heapPeakBytes: 0,
+    gcForced: !!gc, durationMs: 0,
   };
 
-  const one = async (r: FuzzRequest) => {
+  const one = async (r: FuzzRequest, warmUp = false) => {
     const built = buildRequest(baseUrl, r, credentials);
     const routeName = `${FUZZ_ROUTES[r.route]!.method} ${FUZZ_ROUTES[r.route]!.path}`;
-    figures.byRoute[routeName] = (figures.byRoute[routeName] ?? 0) + 1;
+    const finding = (kind: FuzzFinding['kind'], status: number, answer: string) =>
+      figures.findings.push({ kind, method: built.method, url: built.url.slice(0, 300), status, request: `${warmUp ? '(warm-up) ' : ''}${built.describe.slice(0, 400)}`, answer });
+    // the warm-up's answers are checked like any other, but not counted in the run's figures
+    if (warmUp) figures.warmUpRequests++;
+    else figures.byRoute[routeName] = (figures.byRoute[routeName] ?? 0) + 1;
     let status = 0;
     let contentType = '';
     let text = '';
@@ -656,32 +712,51 @@ export async function fuzzRoutes(options: FuzzOptions): Promise<FuzzFigures> {
       if (status === 200 && new URL(built.url).pathname === '/v1/auth/session/refresh') keepRefreshedSession(credentials, res.headers, text);
     } catch (error) {
       // the gateway may close the connection on a body it refuses early (e.g. 413): that is not a crash
-      figures.byStatus['closed'] = (figures.byStatus['closed'] ?? 0) + 1;
-      figures.requests++;
-      if (!/other side closed|ECONNRESET|EPIPE|socket/i.test(String((error as Error).cause ?? error))) {
-        figures.findings.push({ kind: 'transport', method: built.method, url: built.url.slice(0, 300), status: 0, request: built.describe.slice(0, 400), answer: String((error as Error).cause ?? error) });
+      if (!warmUp) {
+        figures.byStatus['closed'] = (figures.byStatus['closed'] ?? 0) + 1;
+        figures.requests++;
       }
+      if (!/other side closed|ECONNRESET|EPIPE|socket/i.test(String((error as Error).cause ?? error))) finding('transport', 0, String((error as Error).cause ?? error));
       return;
     }
-    figures.msByRoute[routeName] = (figures.msByRoute[routeName] ?? 0) + (performance.now() - t0);
-    figures.requests++;
-    figures.byStatus[String(status)] = (figures.byStatus[String(status)] ?? 0) + 1;
-    if (built.credentialSent && status !== 401 && status !== 403) figures.authenticatedAnswers++;
-    if (status === 401) figures.unauthorizedByRoute[routeName] = (figures.unauthorizedByRoute[routeName] ?? 0) + 1;
+    if (!warmUp) {
+      figures.msByRoute[routeName] = (figures.msByRoute[routeName] ?? 0) + (performance.now() - t0);
+      figures.requests++;
+      figures.byStatus[String(status)] = (figures.byStatus[String(status)] ?? 0) + 1;
+      if (built.credentialSent && status !== 401 && status !== 403) figures.authenticatedAnswers++;
+      if (status === 401) {
+        figures.unauthorizedByRoute[routeName] = (figures.unauthorizedByRoute[routeName] ?? 0) + 1;
+        const kind = `${r.auth === 'right' ? 'right credential' : r.auth}: ${/"type":"[^"]*\/([^"/]+)"/.exec(text)?.[1] ?? '?'}`;
+        figures.unauthorizedByKind[kind] = (figures.unauthorizedByKind[kind] ?? 0) + 1;
+      }
+    }
     const kind = checkAnswer(built, status, contentType, text);
     if (kind === 'server-error') figures.serverErrors++;
-    if (kind) figures.findings.push({ kind, method: built.method, url: built.url.slice(0, 300), status, request: built.describe.slice(0, 400), answer: `${contentType} ${text.slice(0, 400)}` });
+    if (kind) finding(kind, status, `${contentType} ${text.slice(0, 400)}`);
   };
 
-  for (let batch = 0; figures.requests < requests; batch++) {
-    const size = Math.min(batchSize, requests - figures.requests);
-    const items = fc.sample(fuzzRequest, { seed: seed + batch, numRuns: size });
+  // the batch's requests (up to a few MB of sampled bodies) go out of scope before the heap is read
+  const runAll = async (items: FuzzRequest[], warmUp = false) => {
     let next = 0;
     await Promise.all(
       Array.from({ length: concurrency }, async () => {
-        while (next < items.length) await one(items[next++]!);
+        while (next < items.length) await one(items[next++]!, warmUp);
       }),
     );
+  };
+
+  if (options.warmUp ?? true) {
+    await runAll(warmUpRequests(seed), true);
+    await credentials.renew?.('session');
+    await credentials.renew?.('operator');
+    log(`fuzz: warm-up of ${figures.warmUpRequests} requests done`);
+  }
+  figures.heapWarmBytes = await settledHeap(gc);
+  started = performance.now();
+
+  for (let batch = 0; figures.requests < requests; batch++) {
+    const size = Math.min(batchSize, requests - figures.requests);
+    await runAll(fc.sample(fuzzRequest, { seed: seed + batch, numRuns: size }));
     // the process stays up
     figures.healthChecks++;
     const health = await fetch(`${baseUrl}/healthz`).then((r) => r.status, () => 0);
@@ -690,10 +765,10 @@ export async function fuzzRoutes(options: FuzzOptions): Promise<FuzzFigures> {
     await credentials.renew?.('session');
     await credentials.renew?.('operator');
     figures.heapSeries.push(heapAfterGc(gc));
-    if (batch === 0) figures.heapWarmBytes = figures.heapSeries[0]!;
     if ((batch + 1) % 10 === 0) log(`fuzz: ${figures.requests}/${requests} requests, ${figures.serverErrors} 5xx, ${figures.findings.length} findings`);
   }
-  figures.heapAfterBytes = heapAfterGc(gc);
+  figures.heapPeakBytes = Math.max(figures.heapWarmBytes, ...figures.heapSeries);
+  figures.heapAfterBytes = await settledHeap(gc);
   figures.durationMs = performance.now() - started;
   return figures;
 }
@@ -704,9 +779,18 @@ function quarters(series: number[]): Array<[number, number]> {
   return at.map((i) => [i, series[i]!]);
 }
 
+/** Whether the heap ended within `marginBytes` of its post-warm-up baseline, as one printed line. */
+export function heapVerdict(f: FuzzFigures, marginBytes: number): { held: boolean; line: string } {
+  const grown = f.heapAfterBytes - f.heapWarmBytes;
+  const held = f.gcForced && grown < marginBytes;
+  const mb = (b: number) => `${(b / 1024 / 1024).toFixed(1)} MB`;
+  return { held, line: `  heap at the end against the baseline: ${grown < 0 ? '−' : '+'}${mb(Math.abs(grown))}, margin ${mb(marginBytes)}: ${held ? 'held' : f.gcForced ? 'MISSED' : 'not measured (no forced GC)'}` };
+}
+
 /** The figures as printed by the test and `npm run soak`. */
 export function formatFigures(f: FuzzFigures): string {
   const mb = (b: number) => `${(b / 1024 / 1024).toFixed(1)} MB`;
+  const sign = (b: number) => `${b < 0 ? '−' : '+'}${mb(Math.abs(b))}`;
   const statuses = Object.entries(f.byStatus).sort(([a], [b]) => a.localeCompare(b)).map(([s, n]) => `${s}×${n}`).join(' ');
   return [
     `fuzz seed ${f.seed}: ${f.requests} requests over ${Object.keys(f.byRoute).length} routes in ${(f.durationMs / 1000).toFixed(1)} s`,
@@ -715,7 +799,8 @@ export function formatFigures(f: FuzzFigures): string {
     `  /healthz after each batch: ${f.healthChecks - f.healthFailures}/${f.healthChecks} ok`,
     `  slowest routes (total ms): ${Object.entries(f.msByRoute).sort(([, a], [, b]) => b - a).slice(0, 5).map(([r, ms]) => `${r} ${ms.toFixed(0)}`).join('; ')}`,
     `  most 401s: ${Object.entries(f.unauthorizedByRoute).sort(([, a], [, b]) => b - a).slice(0, 4).map(([r, n]) => `${r} ${n}`).join('; ')}`,
-    `  heap used: ${mb(f.heapBeforeBytes)} before any request, ${mb(f.heapWarmBytes)} after the first batch, ${mb(f.heapAfterBytes)} at the end${f.gcForced ? ' (each after a forced GC)' : ' (no GC available: not forced)'}`,
+    `  401s by credential and kind: ${Object.entries(f.unauthorizedByKind).sort(([, a], [, b]) => b - a).slice(0, 6).map(([k, n]) => `${k} ${n}`).join('; ')}`,
+    `  heap used${f.gcForced ? ' after a forced GC' : ' (no GC available: not forced)'}: ${mb(f.heapBeforeBytes)} before any request; baseline ${mb(f.heapWarmBytes)} after the warm-up (${f.warmUpRequests} requests); peak ${mb(f.heapPeakBytes)}; end ${mb(f.heapAfterBytes)} (${sign(f.heapAfterBytes - f.heapWarmBytes)} against the baseline)`,
     `  heap after batches ${quarters(f.heapSeries).map(([i, b]) => `${i + 1}: ${mb(b)}`).join(', ')}`,
   ].join('\n');
 }

@@ -2,7 +2,8 @@
  * The route fuzzer (fuzz-routes.ts) at `npm test` size against a real gateway: a fixed seed, printed,
  * so a failure can be replayed with FUZZ_SEED=<seed>; FUZZ_REQUESTS changes the size (the full run
  * is `npm run soak`). Properties: no 5xx; every REST 4xx is problem+json; every GraphQL error has
- * extensions.code; /healthz answers after every batch; the heap comes back near where it started.
+ * extensions.code; /healthz answers after every batch; after a warm-up that touches every route, the
+ * heap ends within HEAP_MARGIN_BYTES of where it stood then.
  * The contract of each answer is "common practice" for HTTP APIs written down in RFC 9457 (problem
  * details) and the GraphQL over HTTP draft (errors with extensions).
  */
@@ -12,13 +13,22 @@ import type { Knex } from 'knex';
 import { createDb } from '../../gateway/db.js';
 import type { RunningGateway } from '../../gateway/server.js';
 import { startTestGateway, testDatabaseUrl } from '../support/gateway.js';
-import { checkAnswer, formatFigures, fuzzRoutes, type FuzzFigures } from './fuzz-routes.js';
+import { checkAnswer, formatFigures, fuzzRoutes, heapVerdict, type FuzzFigures } from './fuzz-routes.js';
 import { prepareFuzzCredentials } from './fuzz-setup.js';
 
 const SEED = Number(process.env['FUZZ_SEED'] ?? 20_261_202);
 const REQUESTS = Number(process.env['FUZZ_REQUESTS'] ?? 2_000);
-/** Growth of the heap (after GC) allowed over the second half of the run. */
-const HEAP_GROWTH_LIMIT = 24 * 1024 * 1024;
+/**
+ * How far the heap (after GC) may end above its baseline after the warm-up. The warm-up touches every
+ * route once per kind of body, so what a gateway builds once on first use and then keeps at a
+ * bounded size is in the baseline, not counted as growth: h5wasm (~70 MB of module source, source
+ * map and wasm memory, loaded by the first HDF5 upload), request validators compiled per route,
+ * GraphQL documents (a bounded cache), JIT code. Measured on the 2-core VM: the end +2.7 to +2.9 MB above
+ * the baseline at 2 000 requests in four runs (nearly all of it compiled code, which levels off:
+ * +6.4 MB at 10 000 in the soak); with an artificial leak of ~3 KB per request (3 MB per 1 000
+ * requests) added to the gateway, +9.0 MB: this margin fails a leak from ~1.6 MB per 1 000 requests up.
+ */
+const HEAP_MARGIN_BYTES = 6 * 1024 * 1024;
 
 let gateway: RunningGateway;
 let db: Knex;
@@ -35,6 +45,7 @@ before(async () => {
     await credentials.close();
   }
   console.log(formatFigures(figures));
+  console.log(heapVerdict(figures, HEAP_MARGIN_BYTES).line);
   for (const f of figures.findings.slice(0, 15)) console.log(`  finding ${f.kind}: ${f.method} ${f.url} → ${f.status}\n    request: ${f.request}\n    answer: ${f.answer}`);
 });
 after(async () => {
@@ -59,16 +70,14 @@ test(`fuzz (seed ${SEED}): the fuzz reached every route and got past authenticat
   assert.ok((figures.byStatus['200'] ?? 0) + (figures.byStatus['201'] ?? 0) > 0, 'some requests succeed');
 });
 
-test(`fuzz (seed ${SEED}): the gateway stays up and its heap returns near the start`, () => {
+test(`fuzz (seed ${SEED}): the gateway stays up and its heap returns to the baseline after the warm-up`, () => {
   assert.equal(figures.healthFailures, 0);
   assert.ok(figures.healthChecks >= Math.ceil(REQUESTS / 100));
-  // Lazily built state (validators, GraphQL documents, h5wasm, the table's metadata) appears in the
-  // first few batches, a one-time rise; a leak instead keeps climbing. So the check is flatness:
-  // the heap after the last batch against the heap halfway through (both after a forced GC).
-  if (figures.gcForced) {
-    const mid = figures.heapSeries[Math.floor(figures.heapSeries.length / 2)]!;
-    assert.ok(figures.heapAfterBytes - mid < HEAP_GROWTH_LIMIT, formatFigures(figures));
-  }
+  assert.ok(figures.warmUpRequests >= 5 * 63, `warm-up requests: ${figures.warmUpRequests}`);
+  // without a forced GC the readings are whatever the collector left: nothing to compare
+  assert.ok(figures.gcForced, 'no GC could be forced (node --expose-gc)');
+  const verdict = heapVerdict(figures, HEAP_MARGIN_BYTES);
+  assert.ok(verdict.held, `${verdict.line}\n${formatFigures(figures)}`);
 });
 
 test('the answer check itself: it flags a 500, a bare-text 400 and a GraphQL error without a code', () => {
