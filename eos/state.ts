@@ -917,7 +917,8 @@ export function describeWarnings(res: EvaluateResult, i: number): string[] {
     out.push(`crystallized ions: Coulomb coupling Γ = ${fmt(res.coulombGamma[i])} > Γ_m = ${GAMMA_MELT}; the liquid Coulomb fit is extrapolated and lattice terms are not included`);
   }
   if (w & WARNING.NON_POSITIVE_PRESSURE) {
-    out.push(`non-positive total pressure P = ${fmt(res.pressure[i])} erg/cm³: the Coulomb correction (${fmt(res.components.coulomb.pressure[i])} erg/cm³) outweighs the ideal gases; the model does not apply here`);
+    const coulomb = res.breakdown ? ` (${fmt(res.components.coulomb.pressure[i])} erg/cm³)` : '';
+    out.push(`non-positive total pressure P = ${fmt(res.pressure[i])} erg/cm³: the Coulomb correction${coulomb} outweighs the ideal gases; the model does not apply here`);
   }
   if (w & WARNING.MECHANICALLY_UNSTABLE) {
     out.push(`mechanically unstable: ∂P/∂ρ at fixed T = ${fmt(res.dPdRho[i])} or Γ1 P = ${fmt(res.gamma1[i] * res.pressure[i])} is not positive (Coulomb correction dominates)`);

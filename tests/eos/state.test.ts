@@ -158,7 +158,10 @@ test('warnings: neutron drip above 4e11 g/cm³, crystallized ions above Γ_m = 1
   assert.equal(r.warnings[5], 0);
   assert.deepEqual(decodeWarnings(r.warnings[0]), ['NEUTRON_DRIP']);
   assert.match(describeWarnings(r, 1).join(' '), /Γ = [0-9.e+]+ > Γ_m = 175/);
-  assert.match(describeWarnings(r, 3).join(' '), /non-positive total pressure/);
+  assert.match(describeWarnings(r, 3).join(' '), /non-positive total pressure P = [-0-9.e+]+ erg\/cm³: the Coulomb correction \(-[0-9.e+]+ erg\/cm³\)/);
+  // without the per-component columns the same words, without the Coulomb pressure itself
+  const lean = evaluate({ density: 1e-2, temperature: 1.5e3, abar: 56, zbar: 26 }, { breakdown: false });
+  assert.match(describeWarnings(lean, 0).join(' '), /non-positive total pressure P = [-0-9.e+]+ erg\/cm³: the Coulomb correction outweighs/);
 });
 
 const richardson = (f: (h: number) => number, h: number) => (4 * (f(h / 2) - f(-h / 2)) / h - (f(h) - f(-h)) / (2 * h)) / 3;
