@@ -10,11 +10,15 @@
  * which piscina replaces). The pool refuses new work (503) when the points waiting would
  * pass EOS_MAX_PENDING_POINTS, so memory stays bounded under overload.
  *
- * Tiny batches run inline (runInline below): a chunk of at most INLINE_MAX_POINTS points of an
- * exact `evaluate` or `regime` is computed on the event loop by the worker's own task function,
- * because handing it to a thread and back costs more than the physics (~20 µs per point exact, so
- * at most ~1.3 ms on the loop). Inversions (iterative, cost not bounded by the point count), the
- * table method and every larger batch still go to the threads.
+ * Tiny batches run inline (runInline below): an `evaluate` or `regime` chunk of at most
+ * INLINE_MAX_POINTS points (exact) or INLINE_MAX_TABLE_POINTS points (table, once the shared table
+ * is loaded) is computed on the event loop by the worker's own task function, because handing it to
+ * a thread and back costs more than the physics (~20 µs per point exact, ~2 µs table, so at most
+ * ~1.3 ms / ~0.5 ms on the loop). Inversions (iterative, cost not bounded by the point count) and
+ * every larger batch still go to the threads.
+ *
+ * The table (method "table") is read once per process by a helper thread and shared with the
+ * threads in SharedArrayBuffers (shared-table.ts); tableForTasks() gives it to the service.
  *
  * The worker file is resolved next to this module with this module's own extension: `.ts` when
  * running under tsx (workers inherit `--import tsx` through execArgv), `.js` when compiled.
@@ -26,6 +30,8 @@ import { fileURLToPath } from 'node:url';
 import { Piscina } from 'piscina';
 import { ProblemError } from '../shared/problem.js';
 import type { PoolStats } from '../metrics.js';
+import type { FreeEnergyTable } from '../../eos/free-energy-table.js';
+import { SharedTable } from './shared-table.js';
 import type { EosTask, EosTaskFailure, EosTaskResult } from './tasks.js';
 
 export interface EosPoolOptions {
@@ -43,6 +49,8 @@ export interface EosPoolOptions {
 
 /** Largest exact evaluate/regime batch computed on the event loop instead of a worker thread. */
 export const INLINE_MAX_POINTS = 64;
+/** Largest table evaluate/regime batch computed on the event loop (table method ~10× cheaper per point). */
+export const INLINE_MAX_TABLE_POINTS = 256;
 
 const ownFile = fileURLToPath(import.meta.url);
 const workerFile = new URL('./worker' + path.extname(ownFile), import.meta.url);
@@ -53,12 +61,14 @@ export class EosPool implements PoolStats {
   private closed = false;
   readonly maxThreads: number;
   readonly tablePath: string | undefined;
+  private readonly sharedTable: SharedTable | undefined;
 
   constructor(private readonly options: EosPoolOptions) {
     this.tablePath = options.tablePath || undefined;
     if (this.tablePath && !fs.existsSync(this.tablePath)) {
       throw new Error(`EOS_TABLE_PATH: no free-energy table at ${this.tablePath} (npm run build:table builds the default one)`);
     }
+    this.sharedTable = this.tablePath ? new SharedTable(this.tablePath) : undefined;
     const maxThreads = options.maxThreads > 0 ? options.maxThreads : Math.max(1, os.availableParallelism());
     const minThreads = Math.min(Math.max(0, options.minThreads), maxThreads);
     this.maxThreads = maxThreads;
@@ -94,7 +104,7 @@ export class EosPool implements PoolStats {
       );
     }
     // after the overload check: an overloaded instance sheds tiny batches too
-    if (chunks.length === 1 && points <= INLINE_MAX_POINTS && this.inlineTask) {
+    if (chunks.length === 1 && points <= Math.max(INLINE_MAX_POINTS, INLINE_MAX_TABLE_POINTS) && this.inlineTask) {
       const built = chunks[0]!();
       const inline = this.runInline(built.task, signal);
       if (inline) return inline;
@@ -163,14 +173,25 @@ export class EosPool implements PoolStats {
   );
 
   /**
-   * A tiny exact evaluate/regime chunk computed here (see the header); undefined when the task is
-   * not one for inline work, so the caller hands it to the pool.
+   * The table for method "table" tasks: read on the first call (the caller waits, once per process)
+   * and shared; undefined without EOS_TABLE_PATH or if it could not be shared (then each thread
+   * reads the file on its first table task, as the worker's fallback).
+   */
+  tableForTasks(): Promise<FreeEnergyTable | undefined> {
+    return this.sharedTable ? this.sharedTable.get() : Promise.resolve(undefined);
+  }
+
+  /**
+   * A tiny evaluate/regime chunk computed here (see the header); undefined when the task is not
+   * one for inline work, so the caller hands it to the pool.
    */
   private runInline(task: EosTask, signal?: AbortSignal): Array<EosTaskResult | EosTaskFailure> | undefined {
-    if (task.options.method !== 'exact' || task.op === 'invert' || task.n > INLINE_MAX_POINTS) return undefined;
+    if (task.op === 'invert') return undefined;
+    const limit = task.options.method === 'exact' ? INLINE_MAX_POINTS : task.table ? INLINE_MAX_TABLE_POINTS : 0;
+    if (task.n > limit) return undefined;
     if (signal?.aborted) throw new ProblemError('client-closed-request', 499, 'Request abandoned', 'The client went away before the batch finished; nothing was billed.');
     let result = this.inlineTask!(task);
-    if (result instanceof Promise) return undefined; // never for exact; kept safe
+    if (result instanceof Promise) return undefined; // only when a table must be read; never here
     // the worker wraps answers for transfer (Piscina.move); in this thread take the value itself
     if (result && typeof result === 'object' && Piscina.valueSymbol in result) result = (result as Record<symbol, unknown>)[Piscina.valueSymbol];
     return [result as EosTaskResult | EosTaskFailure];
@@ -190,6 +211,7 @@ export class EosPool implements PoolStats {
 
   async close(): Promise<void> {
     this.closed = true;
+    await this.sharedTable?.close();
     await this.piscina.destroy();
   }
 }

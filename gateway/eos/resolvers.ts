@@ -34,7 +34,7 @@ export function eosResolvers(eos: EosService) {
 function list(column: AnyColumn | undefined): Array<number | string | null> | undefined {
   if (column === undefined) return undefined;
   if (Array.isArray(column)) return column;
-  if (typeof column === 'string') return JSON.parse(`[${column}]`) as Array<number | null>;
+  if ('jsonParts' in column) return JSON.parse(`[${column.jsonParts.map((p) => Buffer.from(p).toString('utf8')).join(',')}]`) as Array<number | null>;
   const out = new Array<number | null>(column.length);
   for (let i = 0; i < column.length; i++) out[i] = Number.isFinite(column[i]!) ? column[i]! : null;
   return out;

@@ -13,7 +13,7 @@
  * per-point status codes (a batch is billed by its length, like every point was evaluated).
  */
 import * as eos from '../../eos/index.js';
-import type { AccuracyReport, AccuracyStats } from '../../eos/free-energy-table.js';
+import type { AccuracyReport, AccuracyStats, FreeEnergyTable } from '../../eos/free-energy-table.js';
 import { readTableAccuracy } from '../../eos-tables/table-file.js';
 import { ProblemError } from '../shared/problem.js';
 import type { ApiKeyContext, PlanLimits } from '../keys/types.js';
@@ -25,7 +25,7 @@ import {
 } from './fields.js';
 import type { EosPool } from './pool.js';
 import type {
-  AnyColumn, EosTask, EosTaskFailure, EosTaskResult, Encoding, Operation, PointWarning, StatusMessage, TaskOptions, TaskOutputs,
+  AnyColumn, EosTask, EosTaskFailure, EosTaskResult, Encoding, JsonParts, Operation, PointWarning, StatusMessage, TaskOptions, TaskOutputs,
   WireColumn, WireComposition,
 } from './tasks.js';
 
@@ -501,18 +501,19 @@ export class EosService {
   async run(batch: PreparedBatch, encoding: Encoding, signal?: AbortSignal): Promise<BatchAnswer> {
     const { n } = batch;
     let tableAccuracy: TableAccuracyMeta | null = null;
+    let table: FreeEnergyTable | undefined;
     if (batch.options.method === 'table') {
       const file = this.pool.tablePath;
       if (!file) {
         throw new ProblemError('method-not-available', 501, 'Method not available', 'The "table" method is not available on this gateway: no free-energy table is configured (EOS_TABLE_PATH). Use "method": "exact".', { method: 'table' });
       }
-      tableAccuracy = await this.tableAccuracy(file);
+      [tableAccuracy, table] = await Promise.all([this.tableAccuracy(file), this.pool.tableForTasks()]);
     }
     const size = this.chunkPoints;
     const chunks: Array<() => { task: EosTask; transfer: ArrayBuffer[] }> = [];
     for (let start = 0; start < n; start += size) {
       const end = Math.min(n, start + size);
-      chunks.push(() => this.chunk(batch, start, end, encoding));
+      chunks.push(() => this.chunk(batch, start, end, encoding, table));
     }
     const results = await this.pool.runChunks(n, chunks, signal);
     const failure = results.find((r): r is EosTaskFailure => 'failure' in r);
@@ -525,7 +526,7 @@ export class EosService {
     return this.merge(batch, results as EosTaskResult[], encoding, tableAccuracy);
   }
 
-  private chunk(batch: PreparedBatch, start: number, end: number, encoding: Encoding): { task: EosTask; transfer: ArrayBuffer[] } {
+  private chunk(batch: PreparedBatch, start: number, end: number, encoding: Encoding, table: FreeEnergyTable | undefined): { task: EosTask; transfer: ArrayBuffer[] } {
     const transfer: ArrayBuffer[] = [];
     const take = (col: InputColumn) => {
       const out = sliceColumn(col, start, end);
@@ -547,6 +548,7 @@ export class EosService {
       options: batch.options,
       outputs: { ...batch.outputs, encoding },
       detailLimit: DETAIL_LIMIT,
+      ...(table ? { table } : {}),
     };
     return { task, transfer };
   }
@@ -556,7 +558,7 @@ export class EosService {
     const one = results.length === 1 ? results[0]! : undefined;
     const joinColumn = <C extends AnyColumn>(pick: (r: EosTaskResult) => C | undefined): C => {
       if (one) return pick(one)!;
-      if (encoding === 'json') return results.map((r) => pick(r) as string).join(',') as C;
+      if (encoding === 'json') return { jsonParts: results.flatMap((r) => (pick(r) as JsonParts).jsonParts) } as C;
       const firstPart = pick(results[0]!);
       if (Array.isArray(firstPart)) return results.flatMap((r) => pick(r) as Array<string | null>) as C;
       const out = new Float64Array(n);

@@ -4,6 +4,7 @@
  * splits large batches so several threads work on one request and small requests never wait
  * behind a large one.
  */
+import type { FreeEnergyTable } from '../../eos/free-energy-table.js';
 
 export type Operation = 'evaluate' | 'invert' | 'regime';
 
@@ -44,10 +45,22 @@ export interface EosTask {
   outputs: TaskOutputs;
   /** Most status messages and warnings to list (the counts are always complete). */
   detailLimit: number;
+  /** Method "table": the process's shared table (SharedArrayBuffers, shared-table.ts), when loaded. */
+  table?: FreeEnergyTable;
 }
 
-/** A column: typed (Float64Array) or a JSON fragment without brackets ("1.5,null,2"). */
-export type WireColumn = Float64Array | string;
+/**
+ * Encoding "json": a column as the JSON text of its values without brackets ("1.5,null,2") in
+ * UTF-8 bytes, one part per chunk (the parts are joined with commas when the answer is written).
+ * Bytes, so a worker's text is moved to the main thread rather than copied, and the main thread
+ * neither joins it into one large string nor encodes it again (routes.ts writes the parts).
+ */
+export interface JsonParts {
+  jsonParts: Uint8Array[];
+}
+
+/** A column: typed (Float64Array) or JSON text (JsonParts). */
+export type WireColumn = Float64Array | JsonParts;
 
 /** Regime class and summary columns in typed encoding are plain string arrays (null: not classified). */
 export type AnyColumn = WireColumn | Array<string | null>;
