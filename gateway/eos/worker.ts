@@ -75,7 +75,8 @@ function compute(task: EosTask): unknown {
       problem = inverted.problem;
       res = inverted;
     } else {
-      res = eos.evaluate(input, options);
+      // the 45 per-component columns only when the request asks for the breakdown
+      res = eos.evaluate(input, { ...options, breakdown: task.outputs.breakdown.length > 0 });
     }
   } catch (error) {
     const message = error instanceof Error ? error.message : String(error);
