@@ -4,11 +4,11 @@
  */
 import express from 'express';
 import helmet from 'helmet';
-import { pinoHttp } from 'pino-http';
 import type { Knex } from 'knex';
 import type { Logger } from 'pino';
 import type { Config } from './config.js';
 import { healthRoutes } from './health/routes.js';
+import { requestLogger } from './logger.js';
 import { dashboardRoutes } from './dashboard-static.js';
 import { notFound, problemHandler } from './shared/problem.js';
 import { createServices, type Services } from './services.js';
@@ -67,13 +67,8 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
       },
     }),
   );
-  app.use(
-    pinoHttp({
-      logger,
-      autoLogging: { ignore: (req) => req.url === '/healthz' || req.url === '/readyz' },
-      customLogLevel: (_req, res, err) => (err || res.statusCode >= 500 ? 'error' : res.statusCode >= 400 ? 'warn' : 'info'),
-    }),
-  );
+  const requestLog = requestLogger(logger);
+  if (requestLog) app.use(requestLog);
 
   app.use(services.metrics.middleware());
   app.use(services.metrics.routes());
