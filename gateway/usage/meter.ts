@@ -83,10 +83,16 @@ export class Meter {
 
   /**
    * Admits a request of `points` points for the key's organisation or throws a 429 problem.
-   * Exactly one of succeed/fail must follow.
+   * Exactly one of succeed/fail must follow. Synchronous while the organisation's use is fresh in
+   * memory (almost every request; no promise chain per request), a promise when it is re-read.
    */
-  async admit(key: ApiKeyContext, endpoint: string, points: number): Promise<Ticket> {
-    const use = await this.useOf(key.organisationId);
+  admit(key: ApiKeyContext, endpoint: string, points: number): Ticket | Promise<Ticket> {
+    const cached = this.freshUse(key.organisationId);
+    if (cached) return this.admitWith(cached, key, endpoint, points);
+    return this.useOf(key.organisationId).then((use) => this.admitWith(use, key, endpoint, points));
+  }
+
+  private admitWith(use: OrgUse, key: ApiKeyContext, endpoint: string, points: number): Ticket {
     const used = use.base + use.committed + use.inFlight;
     if (used + points > key.limits.pointsPerMonth) {
       const left = Math.max(0, key.limits.pointsPerMonth - used);
@@ -144,6 +150,14 @@ export class Meter {
     cell.latencyMsSum += latencyMs;
     cell.buckets[bucketOf(latencyMs)]! += 1;
     if (points > 0) this.onPoints?.(points, endpoint);
+  }
+
+  /** The organisation's use when it is of this period and read less than QUOTA_REFRESH_MS ago. */
+  private freshUse(organisationId: string): OrgUse | undefined {
+    const use = this.orgUse.get(organisationId);
+    if (!use) return undefined;
+    const now = Date.now();
+    return now - use.refreshedAt < QUOTA_REFRESH_MS && use.period === periodStart(now) ? use : undefined;
   }
 
   private async useOf(organisationId: string): Promise<OrgUse> {
