@@ -3,7 +3,10 @@
  * (exact and free for a single instance) and every SYNC_INTERVAL_MS adds them to one row per
  * (key, window) in `rate_limit_windows`, reading back the total; the hits other instances made are
  * then part of every decision. With N instances a client can exceed its limit by at most what the
- * others admit within one sync interval. Old windows are deleted as they expire.
+ * others admit within one sync interval. Old windows are deleted as they expire. A window is synced
+ * only when it was used here since the last sync (its first use after a quiet spell is judged on the
+ * others' count of the last sync, then refreshed within one interval), so the work per sync follows
+ * the keys in use, not every live window (the 15-minute and 1-hour sign-in windows pile up).
  */
 import type { Knex } from 'knex';
 import type { ClientRateLimitInfo, Options, Store } from 'express-rate-limit';
@@ -18,6 +21,8 @@ interface Window {
   synced: number;
   /** hits made by other instances, as of the last sync */
   others: number;
+  /** used (get/increment/decrement) since the last sync */
+  touched: boolean;
 }
 
 export class PostgresRateLimitStore implements Store {
@@ -46,9 +51,10 @@ export class PostgresRateLimitStore implements Store {
     let window = this.windows.get(key);
     if (!window || window.start !== start) {
       if (window && window.mine > window.synced) this.retired.push([key, window]);
-      window = { start, mine: 0, synced: 0, others: 0 };
+      window = { start, mine: 0, synced: 0, others: 0, touched: true };
       this.windows.set(key, window);
     }
+    window.touched = true;
     return window;
   }
 
@@ -91,6 +97,8 @@ export class PostgresRateLimitStore implements Store {
         if (w.mine > w.synced) due.push([key, w, w.mine - w.synced]);
         continue;
       }
+      if (!w.touched && w.mine === w.synced) continue; // not used here since the last sync
+      w.touched = false;
       due.push([key, w, w.mine - w.synced]);
     }
     if (due.length === 0) return;
