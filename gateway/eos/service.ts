@@ -492,7 +492,10 @@ export class EosService {
   private tableAccuracy(file: string): Promise<TableAccuracyMeta | null> {
     this.tableAccuracyLoad ??= readTableAccuracy(file).then(tableAccuracyMeta, (error: unknown) => {
       this.tableAccuracyLoad = undefined; // a later request tries again
-      throw error;
+      // damaged, or of an older format: the method is unavailable here, not an internal error (the
+      // file's path and the reason go to the log, not to the caller)
+      console.error(`free-energy table ${file}: ${error instanceof Error ? error.message : String(error)}`);
+      throw new ProblemError('method-not-available', 501, 'Method not available', 'The "table" method is not available on this gateway: its free-energy table could not be read (its operator can rebuild it with npm run build:table). Use "method": "exact".', { method: 'table' });
     });
     return this.tableAccuracyLoad;
   }

@@ -50,7 +50,16 @@ export default function runTask(task: EosTask): unknown {
       const failure: EosTaskFailure = { failure: 'method-not-available', message: 'this gateway has no free-energy table configured (EOS_TABLE_PATH)' };
       return failure;
     }
-    return loadTable(tablePath).then(() => compute(task));
+    return loadTable(tablePath).then(
+      () => compute(task),
+      (error: unknown) => {
+        // a configured table that cannot be read (damaged, or of an older format): the method is
+        // unavailable on this gateway, not an internal error; the file's path stays in the log
+        console.error(error instanceof Error ? error.message : String(error));
+        const failure: EosTaskFailure = { failure: 'method-not-available', message: 'the free-energy table of this gateway could not be read (its operator can rebuild it with npm run build:table)' };
+        return failure;
+      },
+    );
   }
   return compute(task);
 }

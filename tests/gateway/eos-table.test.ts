@@ -192,3 +192,29 @@ describe('invert with method "table"', () => {
     }
   });
 });
+
+describe('a configured table that cannot be read', () => {
+  test('table requests get 501 method-not-available that says to use "exact", not a 500; the exact method still answers', async () => {
+    const fs = await import('node:fs');
+    const os = await import('node:os');
+    const path = await import('node:path');
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'fw-bad-table-'));
+    const bad = path.join(dir, 'damaged.h5');
+    fs.writeFileSync(bad, 'not an HDF5 file\n'.repeat(64));
+    const broken = await startTestGateway({ EOS_TABLE_PATH: bad });
+    try {
+      for (const n of [1, 1000]) { // inline and in the pool threads
+        const res = await postJson(`${broken.url}/v1/eos/evaluate`, key.token, { density: Array(n).fill(1), temperature: Array(n).fill(1e7), composition, method: 'table' });
+        assert.equal(res.status, 501, JSON.stringify(res.body));
+        assert.equal(res.body.type.endsWith('method-not-available'), true, res.body.type);
+        assert.match(res.body.detail, /could not be read.*"exact"/);
+        assert.doesNotMatch(res.body.detail, /damaged\.h5|fw-bad-table/, 'no server path in the answer');
+      }
+      const ok = await postJson(`${broken.url}/v1/eos/evaluate`, key.token, { density: 1, temperature: 1e7, composition });
+      assert.equal(ok.status, 200);
+    } finally {
+      await broken.close();
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
+  });
+});
