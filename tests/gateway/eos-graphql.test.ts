@@ -3,32 +3,18 @@
  * to REST for the same request, errors with the REST problem kinds in extensions.code, CSRF
  * prevention, no landing page, and the SDL loaded from every file of schema/graphql.
  */
-import { after, before, describe, test } from 'node:test';
+import { describe, test } from 'node:test';
 import assert from 'node:assert/strict';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { parse } from 'graphql';
-import { startTestGateway } from '../support/gateway.js';
-import { Fixtures, type TestKey } from '../support/fixtures.js';
+import { useGatewayWithKey } from '../support/gateway-with-key.js';
 import { graphql, postJson } from '../support/api.js';
 import { loadTypeDefs, SDL_DIR } from '../../gateway/graphql/server.js';
-import type { RunningGateway } from '../../gateway/server.js';
 
-let gateway: RunningGateway;
-let fx: Fixtures;
-let key: TestKey;
-
-before(async () => {
-  // no free-energy table configured: method "table" is method-not-available here (tests/gateway/eos-table.test.ts has the table)
-  gateway = await startTestGateway({ EOS_TABLE_PATH: '' });
-  fx = new Fixtures();
-  key = await fx.keyOnPlan('group');
-});
-after(async () => {
-  await gateway.close();
-  await fx.close();
-});
+// no free-energy table configured: method "table" is method-not-available here (tests/gateway/eos-table.test.ts has the table)
+const setup = useGatewayWithKey({ EOS_TABLE_PATH: '' }, 'group');
 
 const META = 'meta { operation modelVersion constantsSet method inverseProblem points components tableAccuracy { maxRelativeError } statusMessageCount warningCount detailsTruncated }';
 const DETAILS = 'status warningFlags statusMessages { point status code message } warnings { point code message }';
@@ -52,9 +38,9 @@ describe('REST and GraphQL give identical answers', () => {
       components: ['electrons', 'positrons', 'ions', 'photons'],
       breakdown: true,
     };
-    const rest = await postJson(`${gateway.url}/v1/eos/evaluate`, key.token, input);
+    const rest = await postJson(`${setup.gateway.url}/v1/eos/evaluate`, setup.key.token, input);
     assert.equal(rest.status, 200);
-    const gql = await graphql(gateway.url, key.token, EVALUATE, { input });
+    const gql = await graphql(setup.gateway.url, setup.key.token, EVALUATE, { input });
     assert.equal(gql.status, 200);
     assert.equal(gql.body.errors, undefined, JSON.stringify(gql.body.errors));
     const g = gql.body.data.evaluate;
@@ -71,10 +57,10 @@ describe('REST and GraphQL give identical answers', () => {
 
   test('invert', async () => {
     const input = { density: [1e3, 1e7], specificEnergy: [1e16, 3e17], composition: { abar: 12, zbar: 6 }, fields: ['temperature', 'pressure', 'iterations', 'converged'] };
-    const rest = await postJson(`${gateway.url}/v1/eos/invert`, key.token, input);
+    const rest = await postJson(`${setup.gateway.url}/v1/eos/invert`, setup.key.token, input);
     const gql = await graphql(
-      gateway.url,
-      key.token,
+      setup.gateway.url,
+      setup.key.token,
       `query($input: InvertInput!) { invert(input: $input) { ${META} values { temperature pressure iterations converged density } ${DETAILS} } }`,
       { input },
     );
@@ -89,10 +75,10 @@ describe('REST and GraphQL give identical answers', () => {
 
   test('regime', async () => {
     const input = { density: [1e9, 1e-6], temperature: [1e7, 1e10], composition: { mixture: 'c12-o16' }, fields: ['degeneracy', 'relativity', 'pairs', 'radiation', 'coulomb', 'summary'] };
-    const rest = await postJson(`${gateway.url}/v1/eos/regime`, key.token, input);
+    const rest = await postJson(`${setup.gateway.url}/v1/eos/regime`, setup.key.token, input);
     const gql = await graphql(
-      gateway.url,
-      key.token,
+      setup.gateway.url,
+      setup.key.token,
       `query($input: RegimeInput!) { regime(input: $input) { values {
         degeneracy { class eta } relativity { class beta fermiMomentum x } pairs { ratio } radiation { pressureFraction } coulomb { class gamma } summary
       } ${DETAILS} } }`,
@@ -104,8 +90,8 @@ describe('REST and GraphQL give identical answers', () => {
   });
 
   test('a single value stands for every point, as in REST', async () => {
-    const gql = await graphql(gateway.url, key.token, 'query { evaluate(input: { density: 1e6, temperature: 1e8, composition: { abar: 12, zbar: 6 }, fields: [pressure] }) { values { pressure } meta { points } } }');
-    const rest = await postJson(`${gateway.url}/v1/eos/evaluate`, key.token, { density: 1e6, temperature: 1e8, composition: { abar: 12, zbar: 6 }, fields: ['pressure'] });
+    const gql = await graphql(setup.gateway.url, setup.key.token, 'query { evaluate(input: { density: 1e6, temperature: 1e8, composition: { abar: 12, zbar: 6 }, fields: [pressure] }) { values { pressure } meta { points } } }');
+    const rest = await postJson(`${setup.gateway.url}/v1/eos/evaluate`, setup.key.token, { density: 1e6, temperature: 1e8, composition: { abar: 12, zbar: 6 }, fields: ['pressure'] });
     assert.deepEqual(gql.body.data.evaluate.values.pressure, rest.body.values.pressure);
     assert.equal(gql.body.data.evaluate.meta.points, 1);
   });
@@ -116,13 +102,13 @@ describe('GraphQL errors carry the REST problem kinds', () => {
   const good = { density: [1e6], temperature: [1e8], composition: { abar: 12, zbar: 6 } };
 
   test('authentication and scope', async () => {
-    const none = await graphql(gateway.url, undefined, query, { input: good });
+    const none = await graphql(setup.gateway.url, undefined, query, { input: good });
     assert.equal(none.body.errors?.[0]?.extensions?.['code'], 'missing-api-key');
     assert.equal(none.body.errors?.[0]?.extensions?.['problem']?.status, 401);
-    const bad = await graphql(gateway.url, 'fwk_aaaaaaaa_bbbbbbbbbbbbbbbbbbbbbbbbbbbbbbbb', query, { input: good });
+    const bad = await graphql(setup.gateway.url, 'fwk_aaaaaaaa_bbbbbbbbbbbbbbbbbbbbbbbbbbbbbbbb', query, { input: good });
     assert.equal(bad.body.errors?.[0]?.extensions?.['code'], 'invalid-api-key');
-    const usage = await fx.keyOnPlan('free', ['usage:read']);
-    const scope = await graphql(gateway.url, usage.token, query, { input: good });
+    const usage = await setup.fx.keyOnPlan('free', ['usage:read']);
+    const scope = await graphql(setup.gateway.url, usage.token, query, { input: good });
     assert.equal(scope.body.errors?.[0]?.extensions?.['code'], 'insufficient-scope');
   });
 
@@ -135,35 +121,35 @@ describe('GraphQL errors carry the REST problem kinds', () => {
       [{ ...good, method: 'table' }, 'method-not-available'],
     ];
     for (const [input, code] of cases) {
-      const res = await graphql(gateway.url, key.token, query, { input });
+      const res = await graphql(setup.gateway.url, setup.key.token, query, { input });
       assert.equal(res.body.errors?.[0]?.extensions?.['code'], code, JSON.stringify(res.body));
       assert.ok(res.body.errors?.[0]?.message.length, 'a message that says what to do');
     }
-    const free = await fx.keyOnPlan('free');
-    const big = await graphql(gateway.url, free.token, query, { input: { ...good, density: new Array(10_001).fill(1e6) } });
+    const free = await setup.fx.keyOnPlan('free');
+    const big = await graphql(setup.gateway.url, free.token, query, { input: { ...good, density: new Array(10_001).fill(1e6) } });
     assert.equal(big.body.errors?.[0]?.extensions?.['code'], 'batch-too-large');
   });
 
   test('wrong types are refused by the schema (400)', async () => {
-    const res = await graphql(gateway.url, key.token, query, { input: { ...good, density: ['dense'] } });
+    const res = await graphql(setup.gateway.url, setup.key.token, query, { input: { ...good, density: ['dense'] } });
     assert.equal(res.status, 400);
     assert.equal(res.body.errors?.[0]?.extensions?.['code'], 'BAD_USER_INPUT');
-    const unknown = await graphql(gateway.url, key.token, 'query { evaluate(input: { density: 1, temperature: 1e8, composition: { abar: 1, zbar: 1 }, fields: [entropy] }) { status } }');
+    const unknown = await graphql(setup.gateway.url, setup.key.token, 'query { evaluate(input: { density: 1, temperature: 1e8, composition: { abar: 1, zbar: 1 }, fields: [entropy] }) { status } }');
     assert.equal(unknown.status, 400);
   });
 });
 
 describe('the GraphQL endpoint itself', () => {
   test('CSRF prevention: a simple cross-site request is refused', async () => {
-    const res = await fetch(`${gateway.url}/graphql?query=${encodeURIComponent('{ __typename }')}`);
+    const res = await fetch(`${setup.gateway.url}/graphql?query=${encodeURIComponent('{ __typename }')}`);
     assert.equal(res.status, 400);
     assert.match(await res.text(), /CSRF|preflight/i);
-    const form = await fetch(`${gateway.url}/graphql`, { method: 'POST', headers: { 'content-type': 'text/plain' }, body: '{"query":"{ __typename }"}' });
+    const form = await fetch(`${setup.gateway.url}/graphql`, { method: 'POST', headers: { 'content-type': 'text/plain' }, body: '{"query":"{ __typename }"}' });
     assert.equal(form.status, 400);
   });
 
   test('no landing page (it would load from a CDN)', async () => {
-    const res = await fetch(`${gateway.url}/graphql`, { headers: { accept: 'text/html', 'apollo-require-preflight': 'true' } });
+    const res = await fetch(`${setup.gateway.url}/graphql`, { headers: { accept: 'text/html', 'apollo-require-preflight': 'true' } });
     const text = await res.text();
     assert.doesNotMatch(text, /cdn|embeddable-sandbox|apollographql\.com/i);
   });
@@ -182,7 +168,7 @@ describe('the GraphQL endpoint itself', () => {
     } finally {
       fs.rmSync(dir, { recursive: true, force: true });
     }
-    const introspection = await graphql(gateway.url, undefined, '{ __schema { queryType { fields { name } } } }');
+    const introspection = await graphql(setup.gateway.url, undefined, '{ __schema { queryType { fields { name } } } }');
     const names = introspection.body.data.__schema.queryType.fields.map((f: { name: string }) => f.name);
     for (const n of ['evaluate', 'invert', 'regime']) assert.ok(names.includes(n), `Query.${n}`);
   });

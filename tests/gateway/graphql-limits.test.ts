@@ -3,7 +3,7 @@
  * (gateway/graphql/document-cache.ts): what one request may ask for, what the dashboard and
  * introspection need, and that a refusal is a 400 with code `query-too-complex` before anything runs.
  */
-import { after, before, describe, test } from 'node:test';
+import { describe, test } from 'node:test';
 import assert from 'node:assert/strict';
 import fs from 'node:fs';
 import path from 'node:path';
@@ -13,10 +13,8 @@ import { getIntrospectionQuery, Kind, parse, type DocumentNode, type FragmentDef
 import { operationSize, QUERY_LIMITS } from '../../gateway/graphql/limits.js';
 import { documentCache } from '../../gateway/graphql/document-cache.js';
 import { repoRoot } from '../../gateway/config.js';
-import { startTestGateway } from '../support/gateway.js';
-import { Fixtures, type TestKey } from '../support/fixtures.js';
+import { useGatewayWithKey } from '../support/gateway-with-key.js';
 import { graphql } from '../support/api.js';
-import type { RunningGateway } from '../../gateway/server.js';
 
 function sizeOf(source: string) {
   const doc = parse(source);
@@ -82,28 +80,16 @@ describe('the document cache', () => {
 });
 
 describe('over HTTP', () => {
-  let gateway: RunningGateway;
-  let fx: Fixtures;
-  let key: TestKey;
-
-  before(async () => {
-    gateway = await startTestGateway({ EOS_TABLE_PATH: '' });
-    fx = new Fixtures();
-    key = await fx.keyOnPlan('group');
-  });
-  after(async () => {
-    await gateway.close();
-    await fx.close();
-  });
+  const setup = useGatewayWithKey({ EOS_TABLE_PATH: '' }, 'group');
 
   test(`${QUERY_LIMITS.maxEvaluations} aliased evaluations in one request are answered`, async () => {
-    const answer = await graphql(gateway.url, key.token, `query($input: EvaluateInput!) { ${aliases(QUERY_LIMITS.maxEvaluations, EVALUATE)} }`, { input: INPUT });
+    const answer = await graphql(setup.gateway.url, setup.key.token, `query($input: EvaluateInput!) { ${aliases(QUERY_LIMITS.maxEvaluations, EVALUATE)} }`, { input: INPUT });
     assert.equal(answer.status, 200, JSON.stringify(answer.body.errors));
     assert.equal(Object.keys(answer.body.data ?? {}).length, QUERY_LIMITS.maxEvaluations);
   });
 
   test('one more is a 400 query-too-complex, and nothing is evaluated', async () => {
-    const answer = await graphql(gateway.url, key.token, `query Many($input: EvaluateInput!) { ${aliases(QUERY_LIMITS.maxEvaluations + 1, EVALUATE)} }`, { input: INPUT });
+    const answer = await graphql(setup.gateway.url, setup.key.token, `query Many($input: EvaluateInput!) { ${aliases(QUERY_LIMITS.maxEvaluations + 1, EVALUATE)} }`, { input: INPUT });
     assert.equal(answer.status, 400);
     assert.equal(answer.body.data, undefined);
     const error = answer.body.errors?.[0];
@@ -114,18 +100,18 @@ describe('over HTTP', () => {
   });
 
   test('too many fields (aliased __typename) and too deep a selection are refused, signed in or not', async () => {
-    const wide = await graphql(gateway.url, undefined, `{ ${aliases(QUERY_LIMITS.maxFields + 1, '__typename')} }`);
+    const wide = await graphql(setup.gateway.url, undefined, `{ ${aliases(QUERY_LIMITS.maxFields + 1, '__typename')} }`);
     assert.equal(wide.status, 400);
     assert.equal(wide.body.errors?.[0]?.extensions?.['code'], 'query-too-complex');
     assert.match(wide.body.errors![0]!.message, /more than 1000 fields/);
-    const deep = await graphql(gateway.url, undefined, `{ __schema { types { fields { type ${'{ ofType '.repeat(QUERY_LIMITS.maxDepth)}{ name }${' }'.repeat(QUERY_LIMITS.maxDepth)} } } } }`);
+    const deep = await graphql(setup.gateway.url, undefined, `{ __schema { types { fields { type ${'{ ofType '.repeat(QUERY_LIMITS.maxDepth)}{ name }${' }'.repeat(QUERY_LIMITS.maxDepth)} } } } }`);
     assert.equal(deep.status, 400);
     assert.equal(deep.body.errors?.[0]?.extensions?.['code'], 'query-too-complex');
     assert.match(deep.body.errors![0]!.message, /nests fields more than 20 deep/);
   });
 
   test('introspection still works', async () => {
-    const answer = await graphql(gateway.url, undefined, getIntrospectionQuery());
+    const answer = await graphql(setup.gateway.url, undefined, getIntrospectionQuery());
     assert.equal(answer.status, 200, JSON.stringify(answer.body.errors));
     assert.ok((answer.body.data as { __schema: { types: unknown[] } }).__schema.types.length > 20);
   });
