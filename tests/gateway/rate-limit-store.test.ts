@@ -16,13 +16,24 @@ after(() => db.destroy());
 // a window long enough that the test never crosses its end
 const options = { windowMs: 3_600_000 } as Options;
 
-test('two instances share one counter: hits made on one are part of the other\'s count after both sync', async () => {
-  const prefix = `rl-test-${process.pid}-a:`;
+/** Two stores (two instances) on their own key prefix, stopped and their rows removed afterwards. */
+async function withTwoInstances(name: string, run: (a: PostgresRateLimitStore, b: PostgresRateLimitStore, prefix: string) => Promise<void>): Promise<void> {
+  const prefix = `rl-test-${process.pid}-${name}:`;
   const a = new PostgresRateLimitStore(db, prefix);
   const b = new PostgresRateLimitStore(db, prefix);
   a.init(options);
   b.init(options);
   try {
+    await run(a, b, prefix);
+  } finally {
+    await a.shutdown();
+    await b.shutdown();
+    await db('rate_limit_windows').where('key', 'like', `${prefix}%`).delete();
+  }
+}
+
+test('two instances share one counter: hits made on one are part of the other\'s count after both sync', async () => {
+  await withTwoInstances('a', async (a, b, prefix) => {
     assert.equal((await b.get('k')).totalHits, 0);
     for (let i = 0; i < 3; i++) await a.increment('k');
     assert.equal((await a.get('k')).totalHits, 3);
@@ -35,20 +46,11 @@ test('two instances share one counter: hits made on one are part of the other\'s
     assert.equal((await a.get('k')).totalHits, 4, 'a sees b\'s hit after its next sync');
     const [row] = await db('rate_limit_windows').where({ key: `${prefix}k` });
     assert.equal(Number(row.hits), 4);
-  } finally {
-    await a.shutdown();
-    await b.shutdown();
-    await db('rate_limit_windows').where('key', 'like', `${prefix}%`).delete();
-  }
+  });
 });
 
 test('a window not used on an instance since its last sync is not written again; used again, it learns the others\' hits', async () => {
-  const prefix = `rl-test-${process.pid}-b:`;
-  const a = new PostgresRateLimitStore(db, prefix);
-  const b = new PostgresRateLimitStore(db, prefix);
-  a.init(options);
-  b.init(options);
-  try {
+  await withTwoInstances('b', async (a, b, prefix) => {
     await b.increment('quiet');
     await b.sync();
     // make the shared row recognisable: if b rewrote it at the next sync, hits would come back as b's 1 + 0 and the marker would be lost
@@ -62,9 +64,5 @@ test('a window not used on an instance since its last sync is not written again;
     await b.get('quiet');
     await b.sync();
     assert.equal((await b.get('quiet')).totalHits, 43);
-  } finally {
-    await a.shutdown();
-    await b.shutdown();
-    await db('rate_limit_windows').where('key', 'like', `${prefix}%`).delete();
-  }
+  });
 });
