@@ -13,8 +13,7 @@ import assert from 'node:assert/strict';
 import { Fixtures } from '../support/fixtures.js';
 import { FLUSH_INTERVAL_MS } from '../../gateway/usage/meter.js';
 import { startGatewayProcess, type GatewayProcess } from './support/gateway-process.js';
-import { steadyLoad } from './support/steady-load.js';
-import { JOB_ENV, chunksStored, evaluationUsage, expectCompleteJob, jobPointsMetered, submitJob, waitForChunks } from './support/jobs.js';
+import { JOB_ENV, chunksStored, evaluationUsage, expectCompleteJob, jobPointsMetered, startJobUnderLoad } from './support/jobs.js';
 
 let fx: Fixtures;
 const gateways: GatewayProcess[] = [];
@@ -32,13 +31,7 @@ const JOB_STATES = 1_200;
 const FLUSH_SLACK_MS = 500;
 
 test('SIGKILL under load: usage lost ≤ one flush interval of answers; the job resumes on the next gateway', async (t) => {
-  const key = await fx.keyOnPlan('group', ['eos:evaluate', 'jobs:write']);
-  const first = await startGatewayProcess(JOB_ENV);
-  gateways.push(first);
-  const { id: jobId, states } = await submitJob(first.url, key.token, JOB_STATES);
-  const load = steadyLoad({ url: () => first.url, token: key.token, loopers: 4, pauseMs: 5, points: POINTS });
-  const loadStarted = Date.now();
-  await waitForChunks(fx.db, jobId, 1);
+  const { key, first, jobId, states, load, loadStarted } = await startJobUnderLoad(fx, gateways, JOB_STATES, POINTS);
   // at least two flush intervals of load, and a random phase against the flush timer
   await new Promise((r) => setTimeout(r, Math.max(0, loadStarted + 2 * FLUSH_INTERVAL_MS - Date.now()) + Math.random() * FLUSH_INTERVAL_MS));
   const killedAt = Date.now();

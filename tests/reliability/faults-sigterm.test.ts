@@ -9,8 +9,7 @@ import { after, before, test } from 'node:test';
 import assert from 'node:assert/strict';
 import { Fixtures } from '../support/fixtures.js';
 import { startGatewayProcess, type GatewayProcess } from './support/gateway-process.js';
-import { steadyLoad } from './support/steady-load.js';
-import { JOB_ENV, chunksStored, evaluationUsage, expectCompleteJob, jobPointsMetered, submitJob, waitForChunks } from './support/jobs.js';
+import { JOB_ENV, chunksStored, evaluationUsage, expectCompleteJob, jobPointsMetered, startJobUnderLoad } from './support/jobs.js';
 
 let fx: Fixtures;
 const gateways: GatewayProcess[] = [];
@@ -27,13 +26,7 @@ const POINTS = 2;
 const JOB_STATES = 1_200;
 
 test('SIGTERM under load: answered requests = recorded requests; the job in flight finishes on the next gateway', async (t) => {
-  const key = await fx.keyOnPlan('group', ['eos:evaluate', 'jobs:write']);
-  const first = await startGatewayProcess(JOB_ENV);
-  gateways.push(first);
-  const { id: jobId, states } = await submitJob(first.url, key.token, JOB_STATES);
-  const load = steadyLoad({ url: () => first.url, token: key.token, loopers: 4, pauseMs: 5, points: POINTS });
-  const loadStarted = Date.now();
-  await waitForChunks(fx.db, jobId, 1);
+  const { key, first, jobId, states, load, loadStarted } = await startJobUnderLoad(fx, gateways, JOB_STATES, POINTS);
   await new Promise((r) => setTimeout(r, Math.max(0, loadStarted + 1_500 - Date.now())));
   const storedAtSignal = await chunksStored(fx.db, jobId);
   assert.ok(storedAtSignal < JOB_STATES / 100, 'the job is still in flight when the signal comes');

@@ -2,6 +2,9 @@
 import assert from 'node:assert/strict';
 import type { Knex } from 'knex';
 import { csvColumn, download, parseCsv, uploadJob, waitForJob } from '../../gateway/jobs-helpers.js';
+import type { Fixtures } from '../../support/fixtures.js';
+import { startGatewayProcess, type GatewayProcess } from './gateway-process.js';
+import { steadyLoad } from './steady-load.js';
 
 /** Job settings for the gateways of the fault tests: small chunks, quick expiry and polling. */
 export const JOB_ENV = {
@@ -20,6 +23,22 @@ export function inverseStates(n: number) {
     specificEnergy.push(10 ** (14.5 + ((i * 13) % n) * (3 / n)));
   }
   return { density, specificEnergy, csv: ['density,specificEnergy', ...density.map((d, i) => `${d},${specificEnergy[i]}`)].join('\n') };
+}
+
+/**
+ * The start of both fault scenarios: a gateway process (added to `gateways` for clean-up) with a
+ * job of `jobStates` states in flight and a steady load of `points`-point evaluations, once the job
+ * has stored its first chunk. `loadStarted` is when the load began (Date.now()).
+ */
+export async function startJobUnderLoad(fx: Fixtures, gateways: GatewayProcess[], jobStates: number, points: number) {
+  const key = await fx.keyOnPlan('group', ['eos:evaluate', 'jobs:write']);
+  const first = await startGatewayProcess(JOB_ENV);
+  gateways.push(first);
+  const { id: jobId, states } = await submitJob(first.url, key.token, jobStates);
+  const load = steadyLoad({ url: () => first.url, token: key.token, loopers: 4, pauseMs: 5, points });
+  const loadStarted = Date.now();
+  await waitForChunks(fx.db, jobId, 1);
+  return { key, first, jobId, states, load, loadStarted };
 }
 
 export async function submitJob(url: string, token: string, n: number) {
