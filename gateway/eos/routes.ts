@@ -230,11 +230,10 @@ function sendJson(res: Response, pieces: Buffer[]) {
     res.end(Buffer.concat(pieces, length));
     return;
   }
-  // corked: the pieces leave in large writes; never copied into one buffer
+  // corked: the pieces leave in large writes (end() flushes them); never copied into one buffer
   res.cork();
   for (const p of pieces) res.write(p);
   res.end();
-  process.nextTick(() => res.uncork());
 }
 
 /** Builds a JSON text from small strings and byte pieces that are referenced, never copied. */
