@@ -1,6 +1,7 @@
 /**
  * Builds the Express app. The middleware order lives here and only here:
- * security headers → request logs → health → API features → dashboard → 404 → problem+json errors.
+ * security headers → request logs → metrics timer → EOS API (the hot path) → metrics, health →
+ * other API features → dashboard → 404 → problem+json errors.
  */
 import express from 'express';
 import helmet from 'helmet';
@@ -71,13 +72,9 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   if (requestLog) app.use(requestLog);
 
   app.use(services.metrics.middleware());
-  app.use(services.metrics.routes());
-  app.use(healthRoutes(db));
 
-  // ── API features (each registers its REST router and GraphQL pieces here) ──
-  app.use(docsRoutes());
-
-  // EOS: batches run in a worker-thread pool; REST and GraphQL share one service.
+  // EOS: batches run in a worker-thread pool; REST and GraphQL share one service. Mounted before the
+  // other features: the hot path of simulation codes passes no other router on its way.
   const eosPool = new EosPool({
     minThreads: config.EOS_POOL_MIN_THREADS,
     maxThreads: config.EOS_POOL_MAX_THREADS,
@@ -89,6 +86,12 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   services.metrics.attachPool(eosPool);
   const eosService = new EosService(eosPool, services.meter, config.EOS_CHUNK_POINTS);
   app.use('/v1/eos', eosRoutes(services, eosService));
+
+  app.use(services.metrics.routes());
+  app.use(healthRoutes(db));
+
+  // ── API features (each registers its REST router and GraphQL pieces here) ──
+  app.use(docsRoutes());
 
   // Mixtures: saved compositions, usable as { mixture: "<id>" } in every EOS request
   const mixtureService = new MixtureService(db, services.access, services.audit);

@@ -11,10 +11,12 @@ import type { Services } from '../services.js';
 import { apiKeyAuth, apiKeyOf, requireScope } from '../keys/auth.js';
 import type { ApiKeyContext } from '../keys/types.js';
 import { ProblemError } from '../shared/problem.js';
+import { chain } from '../shared/chain.js';
 import { openApiDocument } from '../docs/document.js';
 import { asciiJson, decodeColumns, encodeColumns, layoutHeader, LAYOUT_HEADER, META_HEADER } from './binary.js';
 import type { BatchAnswer, BinaryQuery, EosService, MeterMark, Operation } from './service.js';
 import { renderJson, sendJson } from './json-answer.js';
+import { JsonBodyValidator } from './json-body-validator.js';
 
 /** JSON bodies: 96 bytes per point of the plan's largest batch (four full-precision columns) + 64 KiB. */
 export const JSON_BYTES_PER_POINT = 96;
@@ -42,9 +44,23 @@ interface RequestState {
 
 export function eosRoutes(services: Services, eos: EosService): Router {
   const router = Router();
+  // the steps before the operation as one router layer (shared/chain.ts): track → key → scope →
+  // rate limit → body → contract
+  router.use(chain([track(services), apiKeyAuth(services.keys), requireScope('eos:evaluate'), services.rateLimit.middleware, planBodyParsers(), contractCheck(openApiDocument())]));
+  for (const [path, op] of Object.entries(OPERATIONS)) {
+    router.post(path, handler(op, eos));
+    router.all(path, (req, res, next) => {
+      res.setHeader('Allow', 'POST');
+      next(new ProblemError('method-not-allowed', 405, 'Method not allowed', `${req.method} is not allowed on /v1/eos${path}; use POST.`));
+    });
+  }
+  router.use(asProblem);
+  return router;
+}
 
-  // Usage of requests refused after authentication (bad body, scope, rate limit, …): one record each.
-  router.use((req, res, next) => {
+/** Usage of requests refused after authentication (bad body, scope, rate limit, …): one record each. */
+function track(services: Services): RequestHandler {
+  return (req, res, next) => {
     const op = req.method === 'POST' ? OPERATIONS[req.path] : undefined;
     const state: RequestState = { endpoint: `/v1/eos/${op ?? 'unknown'}`, mark: { recorded: false }, startedAt: performance.now() };
     res.locals['eos'] = state;
@@ -61,12 +77,20 @@ export function eosRoutes(services: Services, eos: EosService): Router {
       res.once('close', settle);
     }
     next();
-  });
-  router.use(apiKeyAuth(services.keys), requireScope('eos:evaluate'), services.rateLimit.middleware);
-  router.use(planBodyParsers());
-  router.use(
+  };
+}
+
+/**
+ * Requests checked against the API contract: JSON bodies of the three operations by their
+ * compiled body schemas (json-body-validator.ts; a few µs), everything else — the binary form and
+ * its query parameters, other media types, other methods — by express-openapi-validator.
+ */
+function contractCheck(document: Record<string, any>): RequestHandler {
+  const bodies = new JsonBodyValidator(document, Object.keys(OPERATIONS).map((p) => '/v1/eos' + p));
+  const middleware = Router();
+  middleware.use(
     OpenApiValidator.middleware({
-      apiSpec: eosPathsOnly(openApiDocument()) as never,
+      apiSpec: eosPathsOnly(document) as never,
       validateRequests: { allowUnknownQueryParameters: false, coerceTypes: false, removeAdditional: false },
       validateResponses: false,
       // authentication is apiKeyAuth's job; the document describes it for clients
@@ -75,15 +99,13 @@ export function eosRoutes(services: Services, eos: EosService): Router {
       ignoreUndocumented: true,
     }),
   );
-  for (const [path, op] of Object.entries(OPERATIONS)) {
-    router.post(path, handler(op, eos));
-    router.all(path, (req, res, next) => {
-      res.setHeader('Allow', 'POST');
-      next(new ProblemError('method-not-allowed', 405, 'Method not allowed', `${req.method} is not allowed on /v1/eos${path}; use POST.`));
-    });
-  }
-  router.use(asProblem);
-  return router;
+  return (req, res, next) => {
+    const path = req.baseUrl + req.path;
+    // express.json parsed it (objects and arrays only; express.raw gives a Buffer), no query string
+    const json = req.method === 'POST' && req.body !== undefined && !Buffer.isBuffer(req.body) && !req.originalUrl.includes('?');
+    if (!json || !bodies.has(path)) middleware(req, res, next);
+    else next(bodies.check(path, req.body));
+  };
 }
 
 /** The document with only the /v1/eos paths: fewer routes for the validator to match per request. */
