@@ -85,15 +85,30 @@ export class Metrics {
     this.pool = pool;
   }
 
-  /** Times every request; the route label is the matched route pattern, never the raw URL. */
+  /**
+   * Times every request; the route label is the matched route pattern, never the raw URL. The
+   * histogram's child per (method, route, status) is looked up once and kept (prom-client would
+   * otherwise validate and hash the labels on every request).
+   */
   middleware(): RequestHandler {
+    const children = new Map<string, client.Histogram.Internal<'method' | 'route' | 'status'>>();
+    const child = (method: string, route: string, status: string): client.Histogram.Internal<'method' | 'route' | 'status'> => {
+      const id = `${method} ${status} ${route}`;
+      let found = children.get(id);
+      if (found === undefined) {
+        if (children.size >= 10_000) children.clear(); // route labels are patterns: never near this
+        found = this.httpDuration.labels(method, route, status);
+        children.set(id, found);
+      }
+      return found;
+    };
     return (req, res, next) => {
-      const end = this.httpDuration.startTimer();
-      res.on('finish', () => {
+      const started = performance.now();
+      res.once('finish', () => {
         // a feature may name the route for requests refused before its route matched (res.locals.route)
         const named = res.locals['route'];
         const route = typeof named === 'string' ? named : req.route?.path ? req.baseUrl + String(req.route.path) : req.baseUrl || 'unmatched';
-        end({ method: req.method, route, status: String(res.statusCode) });
+        child(req.method, route, String(res.statusCode)).observe((performance.now() - started) / 1000);
       });
       next();
     };
