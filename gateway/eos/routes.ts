@@ -1,7 +1,7 @@
 /**
  * REST routes of the EOS feature: POST /v1/eos/{evaluate,invert,regime} in columnar JSON and in
  * the binary form. Thin: authenticate, check scope, rate limit, read the body within the plan's
- * size limit, validate against schema/openapi.yaml (express-openapi-validator), then call the
+ * size limit, validate against the OpenAPI document (contractCheck below), then call the
  * EOS service and write its answer. Every request refused after authentication is recorded as a
  * rejected request in usage exactly once; admitted requests are recorded by their meter ticket.
  */
