@@ -187,7 +187,11 @@ export interface CoulombTerms extends ComponentTerms {
 }
 
 export function createCoulombTerms(): CoulombTerms {
-  return { ...createComponentTerms(), gamma: 0 };
+  // gamma added as a property: the spread form `{ ...terms, gamma: 0 }` takes V8's slow path here
+  // (~3 µs a call on Node 20, once per evaluate() call and per PointKernel)
+  const terms = createComponentTerms() as CoulombTerms;
+  terms.gamma = 0;
+  return terms;
 }
 
 const ocpScratch = createOcpValues();
