@@ -50,13 +50,14 @@ export interface EosTask {
 }
 
 /**
- * Encoding "json": a column as the JSON text of its values without brackets ("1.5,null,2") in
- * UTF-8 bytes, one part per chunk (the parts are joined with commas when the answer is written).
- * Bytes, so a worker's text is moved to the main thread rather than copied, and the main thread
- * neither joins it into one large string nor encodes it again (routes.ts writes the parts).
+ * Encoding "json": a column as the JSON text of its values without brackets ("1.5,null,2"), one part
+ * per chunk (the parts are joined with commas when the answer is written). From a worker thread a
+ * part is UTF-8 bytes, so the text is moved to the main thread rather than copied, and the main
+ * thread neither joins it into one large string nor encodes it again (json-answer.ts writes the
+ * parts); from a tiny batch computed on the event loop (pool.ts runInline) it is the string itself.
  */
 export interface JsonParts {
-  jsonParts: Uint8Array[];
+  jsonParts: Array<Uint8Array | string>;
 }
 
 /** A column: typed (Float64Array) or JSON text (JsonParts). */
