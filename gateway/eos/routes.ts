@@ -130,6 +130,8 @@ function planBodyParsers(): RequestHandler {
     const [json, raw] = parsers;
     json(req, res, (error?: unknown) => {
       if (error) return next(tooLarge(error, key, 'JSON'));
+      // parsed as JSON: nothing left for the binary parser to read
+      if (req.body !== undefined) return next();
       raw(req, res, (error2?: unknown) => next(error2 ? tooLarge(error2, key, 'binary') : undefined));
     });
   };
