@@ -1,7 +1,7 @@
 /**
  * Builds the Express app. The middleware order lives here and only here:
- * security headers → request logs → metrics timer → EOS API (the hot path) → metrics, health →
- * other API features → dashboard → 404 → problem+json errors.
+ * request logs → metrics timer → EOS API (the hot path, its own security headers) → security headers
+ * (helmet) → metrics, health → other API features → dashboard → 404 → problem+json errors.
  */
 import express from 'express';
 import helmet from 'helmet';
@@ -51,6 +51,27 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   app.set('etag', false);
   app.set('trust proxy', 'loopback');
 
+  const requestLog = requestLogger(logger);
+  if (requestLog) app.use(requestLog);
+
+  app.use(services.metrics.middleware());
+
+  // EOS: batches run in a worker-thread pool; REST and GraphQL share one service. Mounted before the
+  // other features and helmet: the hot path of simulation codes passes no other router on its way
+  // and answers with the API's own security headers.
+  const eosPool = new EosPool({
+    minThreads: config.EOS_POOL_MIN_THREADS,
+    maxThreads: config.EOS_POOL_MAX_THREADS,
+    taskTimeoutMs: config.EOS_TASK_TIMEOUT_MS,
+    maxPendingPoints: config.EOS_MAX_PENDING_POINTS,
+    tablePath: config.EOS_TABLE_PATH,
+  });
+  services.onClose(() => eosPool.close());
+  services.metrics.attachPool(eosPool);
+  const eosService = new EosService(eosPool, services.meter, config.EOS_CHUNK_POINTS);
+  app.use('/v1/eos', eosRoutes(services, eosService));
+
+  // Security headers of pages and the other features (the EOS API sends its own, shared/api-headers.ts)
   app.use(
     helmet({
       contentSecurityPolicy: {
@@ -68,24 +89,6 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
       },
     }),
   );
-  const requestLog = requestLogger(logger);
-  if (requestLog) app.use(requestLog);
-
-  app.use(services.metrics.middleware());
-
-  // EOS: batches run in a worker-thread pool; REST and GraphQL share one service. Mounted before the
-  // other features: the hot path of simulation codes passes no other router on its way.
-  const eosPool = new EosPool({
-    minThreads: config.EOS_POOL_MIN_THREADS,
-    maxThreads: config.EOS_POOL_MAX_THREADS,
-    taskTimeoutMs: config.EOS_TASK_TIMEOUT_MS,
-    maxPendingPoints: config.EOS_MAX_PENDING_POINTS,
-    tablePath: config.EOS_TABLE_PATH,
-  });
-  services.onClose(() => eosPool.close());
-  services.metrics.attachPool(eosPool);
-  const eosService = new EosService(eosPool, services.meter, config.EOS_CHUNK_POINTS);
-  app.use('/v1/eos', eosRoutes(services, eosService));
 
   app.use(services.metrics.routes());
   app.use(healthRoutes(db));

@@ -12,6 +12,7 @@ import { apiKeyAuth, apiKeyOf, requireScope } from '../keys/auth.js';
 import type { ApiKeyContext } from '../keys/types.js';
 import { ProblemError } from '../shared/problem.js';
 import { chain } from '../shared/chain.js';
+import { apiSecurityHeaders } from '../shared/api-headers.js';
 import { openApiDocument } from '../docs/document.js';
 import { asciiJson, decodeColumns, encodeColumns, layoutHeader, LAYOUT_HEADER, META_HEADER } from './binary.js';
 import type { BatchAnswer, BinaryQuery, EosService, MeterMark, Operation } from './service.js';
@@ -40,13 +41,15 @@ interface RequestState {
   endpoint: string;
   mark: MeterMark;
   startedAt: number;
+  /** The running batch's stop (set by the handler). */
+  abort?: AbortController;
 }
 
 export function eosRoutes(services: Services, eos: EosService): Router {
   const router = Router();
-  // the steps before the operation as one router layer (shared/chain.ts): track → key → scope →
-  // rate limit → body → contract
-  router.use(chain([track(services), apiKeyAuth(services.keys), requireScope('eos:evaluate'), services.rateLimit.middleware, planBodyParsers(), contractCheck(openApiDocument())]));
+  // the steps before the operation as one router layer (shared/chain.ts): security headers → track →
+  // key → scope → rate limit → body → contract
+  router.use(chain([apiSecurityHeaders(), track(services), apiKeyAuth(services.keys), requireScope('eos:evaluate'), services.rateLimit.middleware, planBodyParsers(), contractCheck(openApiDocument())]));
   for (const [path, op] of Object.entries(OPERATIONS)) {
     router.post(path, handler(op, eos));
     router.all(path, (req, res, next) => {

@@ -166,6 +166,31 @@ describe('cross-origin policy and security headers', () => {
     }
   });
 
+  test('EOS answers carry the API set (OWASP REST Security Cheat Sheet, "Security Headers"), served or refused', async () => {
+    const user = await makeUser(db, 'eosheaders');
+    const [org] = await db('organisations').insert({ name: `Headers ${tag()}`, slug: `headers-${tag()}` }).returning('id');
+    const keys = new KeyService(db);
+    const { token } = await keys.create({ organisationId: org.id, name: 'headers', scopes: ['eos:evaluate'], createdBy: user.id, expiresAt: null });
+    await keys.close();
+    const body = JSON.stringify({ density: 1e6, temperature: 1e8, composition: { abar: 12, zbar: 6 } });
+    const cases: Array<[string, Record<string, string>, number]> = [
+      ['served', { authorization: `Bearer ${token}` }, 200],
+      ['no key', {}, 401],
+      ['bad body', { authorization: `Bearer ${token}` }, 400],
+    ];
+    for (const [name, auth, status] of cases) {
+      const res = await fetch(`${gateway.url}/v1/eos/evaluate`, { method: 'POST', headers: { ...auth, 'content-type': 'application/json' }, body: status === 400 ? '{"density": "x"}' : body });
+      await res.arrayBuffer();
+      assert.equal(res.status, status, name);
+      assert.equal(res.headers.get('content-security-policy'), "default-src 'none'; frame-ancestors 'none'", name);
+      assert.equal(res.headers.get('x-content-type-options'), 'nosniff', name);
+      assert.equal(res.headers.get('x-frame-options'), 'DENY', name);
+      assert.match(res.headers.get('strict-transport-security') ?? '', /max-age=\d{7,}/, name);
+      assert.equal(res.headers.get('referrer-policy'), 'no-referrer', name);
+      assert.equal(res.headers.get('x-powered-by'), null, name);
+    }
+  });
+
   test('answers holding secrets or account data are not cached', async () => {
     const user = await makeUser(db, 'nostore');
     const [org] = await db('organisations').insert({ name: `No-store ${tag()}`, slug: `nostore-${tag()}` }).returning('id');
