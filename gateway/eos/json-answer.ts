@@ -17,7 +17,10 @@ const ONE_BUFFER_BYTES = 256 * 1024;
 export function sendJson(res: Response, pieces: Array<Buffer | string>) {
   let length = 0;
   for (const p of pieces) length += typeof p === 'string' ? Buffer.byteLength(p, 'utf8') : p.length;
-  res.status(200).type('application/json').setHeader('Content-Length', length);
+  // the header res.type('application/json') writes, without its media-type lookup
+  res.statusCode = 200;
+  res.setHeader('Content-Type', 'application/json; charset=utf-8');
+  res.setHeader('Content-Length', length);
   if (pieces.length === 1) {
     res.end(pieces[0]!);
     return;

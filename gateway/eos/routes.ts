@@ -61,7 +61,11 @@ export function eosRoutes(services: Services, eos: EosService): Router {
   return router;
 }
 
-/** Usage of requests refused after authentication (bad body, scope, rate limit, …): one record each. */
+/**
+ * Per request: the usage record of a request refused after authentication (bad body, scope, rate
+ * limit, …; one record each) and the batch stopped when the client goes away — both on the
+ * response's 'close', which follows the answer's end or a lost connection.
+ */
 function track(services: Services): RequestHandler {
   return (req, res, next) => {
     const op = req.method === 'POST' ? OPERATIONS[req.path] : undefined;
@@ -70,14 +74,13 @@ function track(services: Services): RequestHandler {
     if (op) {
       // the metrics route label, also for requests refused before the route matched
       res.locals['route'] = state.endpoint;
-      const settle = () => {
+      res.once('close', () => {
+        if (!res.writableFinished) state.abort?.abort();
         const key = res.locals['apiKey'] as ApiKeyContext | undefined;
         if (!key || state.mark.recorded || res.statusCode < 400) return;
         state.mark.recorded = true;
         services.meter.recordRejected(key, state.endpoint, performance.now() - state.startedAt);
-      };
-      res.once('finish', settle);
-      res.once('close', settle);
+      });
     }
     next();
   };
@@ -156,12 +159,11 @@ function handler(op: Operation, eos: EosService): RequestHandler {
   return async (req, res, next) => {
     const key = apiKeyOf(res);
     const state = res.locals['eos'] as RequestState;
-    const binary = req.is('application/octet-stream') === 'application/octet-stream';
-    // the client going away stops the batch (nothing is billed)
+    // express.raw reads only application/octet-stream bodies, into a Buffer
+    const binary = Buffer.isBuffer(req.body);
+    // the client going away stops the batch (nothing is billed; track() aborts it)
     const abort = new AbortController();
-    res.once('close', () => {
-      if (!res.writableFinished) abort.abort();
-    });
+    state.abort = abort;
     try {
       const answer = await eos.execute(
         key,
