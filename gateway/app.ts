@@ -69,7 +69,7 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   services.onClose(() => eosPool.close());
   services.metrics.attachPool(eosPool);
   const eosService = new EosService(eosPool, services.meter, config.EOS_CHUNK_POINTS);
-  app.use('/v1/eos', eosRoutes(services, eosService));
+  app.use(eosRoutes(services, eosService));
 
   // Security headers of pages and the other features (the EOS API sends its own, shared/api-headers.ts)
   app.use(

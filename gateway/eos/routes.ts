@@ -17,6 +17,7 @@ import { openApiDocument } from '../docs/document.js';
 import { asciiJson, decodeColumns, encodeColumns, layoutHeader, LAYOUT_HEADER, META_HEADER } from './binary.js';
 import type { BatchAnswer, BinaryQuery, EosService, MeterMark, Operation } from './service.js';
 import { renderJson, sendJson } from './json-answer.js';
+import { LazySignal } from './pool.js';
 import { JsonBodyValidator } from './json-body-validator.js';
 
 /** JSON bodies: 96 bytes per point of the plan's largest batch (four full-precision columns) + 64 KiB. */
@@ -35,30 +36,42 @@ export function binaryBodyLimit(maxBatch: number): number {
   return maxBatch * BINARY_BYTES_PER_POINT;
 }
 
-const OPERATIONS: Readonly<Record<string, Operation>> = { '/evaluate': 'evaluate', '/invert': 'invert', '/regime': 'regime' };
+/** The operations by path (the API contract documents exactly these; tests/gateway/openapi.test.ts). */
+export const EOS_OPERATIONS: Readonly<Record<string, Operation>> = { '/v1/eos/evaluate': 'evaluate', '/v1/eos/invert': 'invert', '/v1/eos/regime': 'regime' };
+const OPERATIONS = EOS_OPERATIONS;
 
 interface RequestState {
   endpoint: string;
   mark: MeterMark;
   startedAt: number;
   /** The running batch's stop (set by the handler). */
-  abort?: AbortController;
+  abort?: LazySignal;
 }
 
-export function eosRoutes(services: Services, eos: EosService): Router {
-  const router = Router();
-  // the steps before the operation as one router layer (shared/chain.ts): security headers → track →
-  // key → scope → rate limit → body → contract
-  router.use(chain([apiSecurityHeaders(), track(services), apiKeyAuth(services.keys), requireScope('eos:evaluate'), services.rateLimit.middleware, planBodyParsers(), contractCheck(openApiDocument())]));
-  for (const [path, op] of Object.entries(OPERATIONS)) {
-    router.post(path, handler(op, eos));
-    router.all(path, (req, res, next) => {
+/**
+ * The EOS API as one middleware for every path under /v1/eos: the steps before an operation, then
+ * the operation (POST; other methods 405; other paths fall through to the 404). Plain calls
+ * (shared/chain.ts) rather than an Express router with a layer per step and per route: on the
+ * single-point hot path the router's own bookkeeping cost more than most of the steps.
+ */
+export function eosRoutes(services: Services, eos: EosService): RequestHandler {
+  const handlers = new Map(Object.entries(OPERATIONS).map(([path, op]) => [path, handler(op, eos)] as const));
+  const dispatch: RequestHandler = (req, res, next) => {
+    const run = handlers.get(req.path);
+    if (run === undefined) next();
+    else if (req.method === 'POST') void run(req, res, next);
+    else {
       res.setHeader('Allow', 'POST');
-      next(new ProblemError('method-not-allowed', 405, 'Method not allowed', `${req.method} is not allowed on /v1/eos${path}; use POST.`));
-    });
-  }
-  router.use(asProblem);
-  return router;
+      next(new ProblemError('method-not-allowed', 405, 'Method not allowed', `${req.method} is not allowed on ${req.path}; use POST.`));
+    }
+  };
+  // security headers → track → key → scope → rate limit → body → contract → operation
+  const steps = chain([apiSecurityHeaders(), track(services), apiKeyAuth(services.keys), requireScope('eos:evaluate'), services.rateLimit.middleware, planBodyParsers(), contractCheck(openApiDocument()), dispatch]);
+  return (req, res, next) => {
+    const url = req.url;
+    if (!(url.startsWith('/v1/eos/') || url === '/v1/eos' || url.startsWith('/v1/eos?'))) return next();
+    steps(req, res, (error?: unknown) => (error === undefined ? next() : asProblem(error, req, res, next)));
+  };
 }
 
 /**
@@ -92,7 +105,7 @@ function track(services: Services): RequestHandler {
  * its query parameters, other media types, other methods — by express-openapi-validator.
  */
 function contractCheck(document: Record<string, any>): RequestHandler {
-  const bodies = new JsonBodyValidator(document, Object.keys(OPERATIONS).map((p) => '/v1/eos' + p));
+  const bodies = new JsonBodyValidator(document, Object.keys(OPERATIONS));
   const middleware = Router();
   middleware.use(
     OpenApiValidator.middleware({
@@ -162,7 +175,7 @@ function handler(op: Operation, eos: EosService): RequestHandler {
     // express.raw reads only application/octet-stream bodies, into a Buffer
     const binary = Buffer.isBuffer(req.body);
     // the client going away stops the batch (nothing is billed; track() aborts it)
-    const abort = new AbortController();
+    const abort = new LazySignal();
     state.abort = abort;
     try {
       const answer = await eos.execute(
@@ -173,7 +186,7 @@ function handler(op: Operation, eos: EosService): RequestHandler {
           const columns = decodeColumns(req.body, list(req.query['inputs']) ?? []).columns;
           return eos.prepareBinary(op, query, columns, key.limits, await eos.savedMixture(key.organisationId, query.mixture));
         },
-        { endpoint: state.endpoint, encoding: binary ? 'typed' : 'json', signal: abort.signal, mark: state.mark, startedAt: state.startedAt },
+        { endpoint: state.endpoint, encoding: binary ? 'typed' : 'json', signal: abort, mark: state.mark, startedAt: state.startedAt },
       );
       if (binary) sendBinary(res, answer);
       else sendJson(res, renderJson(answer));

@@ -23,7 +23,7 @@ import {
   COMPONENTS, COMPONENT_FIELDS, DEFAULT_EVALUATE_FIELDS, DEFAULT_INVERT_FIELDS, DEFAULT_REGIME_FIELDS, EVALUATE_FIELDS,
   INVERT_OUTPUT_FIELDS, MAXWELL_FIELDS, REGIME_FIELDS, REGIME_NUMERIC_COLUMNS, parseColumnRef, regimeColumns, type ColumnRef,
 } from './fields.js';
-import type { EosPool } from './pool.js';
+import type { EosPool, LazySignal } from './pool.js';
 import type {
   AnyColumn, EosTask, EosTaskFailure, EosTaskResult, Encoding, JsonParts, Operation, PointWarning, StatusMessage, TaskOptions, TaskOutputs,
   WireColumn, WireComposition,
@@ -149,7 +149,7 @@ export interface ExecuteContext {
   /** Metering label, e.g. "/v1/eos/evaluate" or "graphql:evaluate". */
   endpoint: string;
   encoding: Encoding;
-  signal?: AbortSignal;
+  signal?: AbortSignal | LazySignal;
   mark: MeterMark;
   /** When the request reached the gateway (performance.now()), for the recorded latency. */
   startedAt: number;
@@ -504,7 +504,7 @@ export class EosService {
   private tableReady: { tableAccuracy: TableAccuracyMeta | null; table: FreeEnergyTable } | undefined;
 
   /** Runs a prepared batch in the pool and merges the chunks (no metering). */
-  async run(batch: PreparedBatch, encoding: Encoding, signal?: AbortSignal): Promise<BatchAnswer> {
+  async run(batch: PreparedBatch, encoding: Encoding, signal?: AbortSignal | LazySignal): Promise<BatchAnswer> {
     const { n } = batch;
     let tableAccuracy: TableAccuracyMeta | null = null;
     let table: FreeEnergyTable | undefined;
