@@ -8,7 +8,7 @@
 import express, { Router, type ErrorRequestHandler, type RequestHandler, type Response } from 'express';
 import * as OpenApiValidator from 'express-openapi-validator';
 import type { Services } from '../services.js';
-import { apiKeyAuth, apiKeyOf, requireScope } from '../keys/auth.js';
+import { apiKeyChain, apiKeyOf } from '../keys/auth.js';
 import type { ApiKeyContext } from '../keys/types.js';
 import { ProblemError } from '../shared/problem.js';
 import { chain } from '../shared/chain.js';
@@ -38,7 +38,6 @@ export function binaryBodyLimit(maxBatch: number): number {
 
 /** The operations by path (the API contract documents exactly these; tests/gateway/openapi.test.ts). */
 export const EOS_OPERATIONS: Readonly<Record<string, Operation>> = { '/v1/eos/evaluate': 'evaluate', '/v1/eos/invert': 'invert', '/v1/eos/regime': 'regime' };
-const OPERATIONS = EOS_OPERATIONS;
 
 interface RequestState {
   endpoint: string;
@@ -55,7 +54,7 @@ interface RequestState {
  * single-point hot path the router's own bookkeeping cost more than most of the steps.
  */
 export function eosRoutes(services: Services, eos: EosService): RequestHandler {
-  const handlers = new Map(Object.entries(OPERATIONS).map(([path, op]) => [path, handler(op, eos)] as const));
+  const handlers = new Map(Object.entries(EOS_OPERATIONS).map(([path, op]) => [path, handler(op, eos)] as const));
   const dispatch: RequestHandler = (req, res, next) => {
     const run = handlers.get(req.path);
     if (run === undefined) next();
@@ -66,7 +65,7 @@ export function eosRoutes(services: Services, eos: EosService): RequestHandler {
     }
   };
   // security headers → track → key → scope → rate limit → body → contract → operation
-  const steps = chain([apiSecurityHeaders(), track(services), apiKeyAuth(services.keys), requireScope('eos:evaluate'), services.rateLimit.middleware, planBodyParsers(), contractCheck(openApiDocument()), dispatch]);
+  const steps = chain([apiSecurityHeaders(), track(services), apiKeyChain(services.keys, 'eos:evaluate', services.rateLimit.middleware), planBodyParsers(), contractCheck(openApiDocument()), dispatch]);
   return (req, res, next) => {
     const url = req.url;
     if (!(url.startsWith('/v1/eos/') || url === '/v1/eos' || url.startsWith('/v1/eos?'))) return next();
@@ -81,7 +80,7 @@ export function eosRoutes(services: Services, eos: EosService): RequestHandler {
  */
 function track(services: Services): RequestHandler {
   return (req, res, next) => {
-    const op = req.method === 'POST' ? OPERATIONS[req.path] : undefined;
+    const op = req.method === 'POST' ? EOS_OPERATIONS[req.path] : undefined;
     const state: RequestState = { endpoint: `/v1/eos/${op ?? 'unknown'}`, mark: { recorded: false }, startedAt: performance.now() };
     res.locals['eos'] = state;
     if (op) {
@@ -105,7 +104,7 @@ function track(services: Services): RequestHandler {
  * its query parameters, other media types, other methods — by express-openapi-validator.
  */
 function contractCheck(document: Record<string, any>): RequestHandler {
-  const bodies = new JsonBodyValidator(document, Object.keys(OPERATIONS));
+  const bodies = new JsonBodyValidator(document, Object.keys(EOS_OPERATIONS));
   const middleware = Router();
   middleware.use(
     OpenApiValidator.middleware({
@@ -119,7 +118,7 @@ function contractCheck(document: Record<string, any>): RequestHandler {
     }),
   );
   return (req, res, next) => {
-    const path = req.baseUrl + req.path;
+    const path = req.path;
     // express.json parsed it (objects and arrays only; express.raw gives a Buffer), no query string
     const json = req.method === 'POST' && req.body !== undefined && !Buffer.isBuffer(req.body) && !req.originalUrl.includes('?');
     if (!json || !bodies.has(path)) middleware(req, res, next);

@@ -1,5 +1,6 @@
 /** Express middleware: authenticate the API key (401) and require a scope (403). */
-import { Router, type RequestHandler } from 'express';
+import type { RequestHandler } from 'express';
+import { chain } from '../shared/chain.js';
 import { ProblemError } from '../shared/problem.js';
 import type { KeyService } from './service.js';
 import type { ApiKeyContext, Scope } from './types.js';
@@ -35,11 +36,9 @@ export function apiKeyOf(res: { locals: Record<string, unknown> }): ApiKeyContex
 
 /**
  * The API-key path as one middleware: authenticate the key, require the scope, then the per-key rate
- * limit (an Express router runs them in order and stops at the first error), for routes that also
- * accept a signed-in session.
+ * limit (run in order by shared/chain.ts, stopping at the first error), for routes that also accept a
+ * signed-in session and for the EOS API.
  */
 export function apiKeyChain(keys: KeyService, scope: Scope, rateLimit: RequestHandler): RequestHandler {
-  const chain = Router();
-  chain.use(apiKeyAuth(keys), requireScope(scope), rateLimit);
-  return chain;
+  return chain([apiKeyAuth(keys), requireScope(scope), rateLimit]);
 }
