@@ -69,20 +69,19 @@ export default function runTask(task: EosTask): unknown {
   return compute(task);
 }
 
-/** JSON answers of at most this many points reuse one EvaluateResult (see reusableResult). */
+/** JSON answers of at most this many points reuse one EvaluateResult (see reuseSlot). */
 const REUSE_MAX_POINTS = 256;
 /** The last JSON-encoded result per (maxwellResiduals, breakdown) setting, for evaluate's options.into. */
 const reusable: Array<eos.EvaluateResult | undefined> = [undefined, undefined, undefined, undefined];
 
 /**
- * An earlier result to evaluate into (options.into): only for small JSON answers, whose columns are
- * turned into text before the next task starts (compute is synchronous), never for typed ones
- * (their buffers go to the caller). Saves the allocation and first touch of ~80 columns per task.
+ * The slot of `reusable` a task may evaluate into (options.into), or -1: only small JSON answers,
+ * whose columns are turned into text before the next task starts (compute is synchronous), never
+ * typed ones (their buffers go to the caller). Saves the allocation and first touch of ~80 columns.
  */
-function reusableResult(task: EosTask, breakdown: boolean): eos.EvaluateResult | undefined {
-  if (task.outputs.encoding !== 'json' || task.n > REUSE_MAX_POINTS) return undefined;
-  const r = reusable[(task.options.maxwellResiduals ? 1 : 0) + (breakdown ? 2 : 0)];
-  return r !== undefined && r.n === task.n ? r : undefined;
+function reuseSlot(task: EosTask, breakdown: boolean): number {
+  if (task.outputs.encoding !== 'json' || task.n > REUSE_MAX_POINTS) return -1;
+  return (task.options.maxwellResiduals ? 1 : 0) + (breakdown ? 2 : 0);
 }
 
 function compute(task: EosTask): unknown {
@@ -109,7 +108,9 @@ function compute(task: EosTask): unknown {
     } else {
       // the 45 per-component columns only when the request asks for the breakdown
       const breakdown = task.outputs.breakdown.length > 0;
-      const into = reusableResult(task, breakdown);
+      const slot = reuseSlot(task, breakdown);
+      const kept = slot < 0 ? undefined : reusable[slot];
+      const into = kept !== undefined && kept.n === task.n ? kept : undefined;
       // evaluate and regime are given density and temperature (service.ts prepare); an object literal
       // of fixed shape (a copy of task.given with properties added is slower to build and to read)
       const { density, temperature } = task.given;
@@ -123,9 +124,7 @@ function compute(task: EosTask): unknown {
         breakdown,
         into,
       });
-      if (into === undefined && task.outputs.encoding === 'json' && task.n <= REUSE_MAX_POINTS) {
-        reusable[(o.maxwellResiduals ? 1 : 0) + (breakdown ? 2 : 0)] = res;
-      }
+      if (slot >= 0 && into === undefined) reusable[slot] = res;
     }
   } catch (error) {
     const message = error instanceof Error ? error.message : String(error);
