@@ -61,8 +61,8 @@ export const GAMMA_MELT = 175;
 export const MADELUNG_BCC = -0.895929255682;
 
 const R_GAS = AVOGADRO * BOLTZMANN_K;
-const E2_OVER_K = (ELEMENTARY_CHARGE * ELEMENTARY_CHARGE) / BOLTZMANN_K;
-const FOUR_PI_OVER_3_NA = ((4 * Math.PI) / 3) * AVOGADRO;
+export const E2_OVER_K = (ELEMENTARY_CHARGE * ELEMENTARY_CHARGE) / BOLTZMANN_K;
+export const FOUR_PI_OVER_3_NA = ((4 * Math.PI) / 3) * AVOGADRO;
 
 /** Reduced excess functions of the liquid OCP at one Γ. */
 export interface OcpValues {
@@ -165,8 +165,8 @@ export function ocpLiquid(G: number, out: OcpValues, withF = true): void {
   out.s = s;
 }
 
-const INV_SQRT_A2 = 1 / Math.sqrt(OCP_A2);
-const HALF_LN_A2 = 0.5 * Math.log(OCP_A2);
+export const INV_SQRT_A2 = 1 / Math.sqrt(OCP_A2);
+export const HALF_LN_A2 = 0.5 * Math.log(OCP_A2);
 const INV_B2 = 1 / OCP_B2;
 const INV_B4 = 1 / OCP_B4;
 

@@ -313,7 +313,7 @@ export function buildFreeEnergyTable(
 /** Values per node in the packed kernel array. */
 const STRIDE = 33;
 const SHARE_FLOOR = 1e-30;
-const LN_SHARE_FLOOR = Math.log(SHARE_FLOOR);
+export const LN_SHARE_FLOOR = Math.log(SHARE_FLOOR);
 
 /**
  * Derives the kernel's packed array from the columns (call after loading a table from a file;
@@ -507,7 +507,7 @@ export function boltzmannReference(d: number, T: number, out: Float64Array): voi
   out[11] = sig * (1 - sig) * rhoU * rhoV + sig * rhoUV;
 }
 
-const PAIR_Z_C = Math.log((1 / (Math.PI * Math.PI)) * (ELECTRON_MASS * SPEED_OF_LIGHT * 2 * Math.PI / PLANCK_H) ** 3 * Math.sqrt(Math.PI / 2));
+export const PAIR_Z_C = Math.log((1 / (Math.PI * Math.PI)) * (ELECTRON_MASS * SPEED_OF_LIGHT * 2 * Math.PI / PLANCK_H) ** 3 * Math.sqrt(Math.PI / 2));
 /** Taper exp(−(β/PAIR_TAPER_BETA)^PAIR_TAPER_POWER) of the analytic pair part (our choice; see pairBoltzmann). */
 const PAIR_TAPER_BETA = 0.7;
 const PAIR_TAPER_POWER = 3;
@@ -564,8 +564,8 @@ export function pairBoltzmann(d: number, T: number, out: Float64Array): boolean 
   return true;
 }
 
-const LN_K_OVER_MEC2 = Math.log(BOLTZMANN_K / ELECTRON_REST_ENERGY);
-const LN_HALF_AVOGADRO = Math.log(0.5 * AVOGADRO);
+export const LN_K_OVER_MEC2 = Math.log(BOLTZMANN_K / ELECTRON_REST_ENERGY);
+export const LN_HALF_AVOGADRO = Math.log(0.5 * AVOGADRO);
 
 /**
  * The kernel's share of `boltzmannReference` and `pairBoltzmann` at one point, computed together

@@ -22,7 +22,8 @@
  * lengths, an unknown option) throw at the call.
  */
 import {
-  ATOMIC_MASS_UNIT, AVOGADRO, BOLTZMANN_K, CONSTANTS_SET, ELECTRON_MASS, ELEMENTARY_CHARGE, HBAR, RADIATION_A, SPEED_OF_LIGHT,
+  ATOMIC_MASS_UNIT, AVOGADRO, BOLTZMANN_K, CONSTANTS_SET, ELECTRON_MASS, ELECTRON_REST_ENERGY, ELEMENTARY_CHARGE, HBAR, RADIATION_A,
+  SPEED_OF_LIGHT,
 } from './constants.js';
 import {
   COMPOSITION_BAD_FRACTIONS, COMPOSITION_OUT_OF_DOMAIN, broadcastLength, readFloat64Column, resolveComposition,
@@ -31,8 +32,13 @@ import {
 import { createPairGasState, pairGas, type PairGasState, type PairSpecies } from './electron-positron.js';
 import { createIonGasTerms, ionGas } from './ions.js';
 import { createPhotonGasTerms, photonGas } from './radiation.js';
-import { GAMMA_MELT, coulombCorrection, createCoulombTerms } from './coulomb.js';
-import { TABLE_OK, prepareTable, tablePairGas, type FreeEnergyTable } from './free-energy-table.js';
+import {
+  E2_OVER_K, FOUR_PI_OVER_3_NA, GAMMA_MELT, HALF_LN_A2, INV_SQRT_A2, OCP_A3, coulombCorrection, createCoulombTerms,
+} from './coulomb.js';
+import {
+  LN_HALF_AVOGADRO, LN_K_OVER_MEC2, LN_SHARE_FLOOR, PAIR_Z_C, TABLE_OK, prepareTable, tablePairGas, type FreeEnergyTable,
+} from './free-energy-table.js';
+import { FLAG, OUTPUT_COLUMNS, OUTPUT_COMPONENT_COLUMNS, TableBatch } from './wasm/table-batch.js';
 
 // ---------------------------------------------------------------------------------------------
 // Domain, status codes, warnings
@@ -229,12 +235,12 @@ export interface EvaluateResult {
   maxwell?: MaxwellResidualColumns;
 }
 
-const TOTAL_COLUMNS = [
+export const TOTAL_COLUMNS = [
   'pressure', 'specificEnergy', 'specificEntropy', 'dPdRho', 'dPdT', 'dEdRho', 'dEdT', 'dSdRho', 'dSdT',
   'dPdAbar', 'dPdZbar', 'dEdAbar', 'dEdZbar', 'cv', 'cp', 'gamma1', 'gamma3', 'chiRho', 'chiT', 'nablaAd',
   'soundSpeed', 'eta', 'electronDensity', 'positronDensity', 'coulombGamma', 'radiationPressureFraction',
 ] as const;
-const COMPONENT_COLUMNS = [
+export const COMPONENT_COLUMNS = [
   'pressure', 'specificEnergy', 'specificEntropy', 'dPdRho', 'dPdT', 'dEdRho', 'dEdT', 'dSdRho', 'dSdT',
 ] as const;
 
@@ -740,160 +746,84 @@ function tableOutsideMessage(table: FreeEnergyTable, rho: number, ye: number, T:
 
 const R_ION = AVOGADRO * BOLTZMANN_K;
 const LN_ION_QC = 1.5 * Math.log((ATOMIC_MASS_UNIT * BOLTZMANN_K) / (2 * Math.PI * HBAR * HBAR));
-const C2 = SPEED_OF_LIGHT * SPEED_OF_LIGHT;
+
+/** This thread's instance of the WebAssembly table loop (created on first use). */
+let tableBatch: TableBatch | null = null;
+
+function tableBatchEngine(): TableBatch {
+  tableBatch ??= new TableBatch({
+    avogadro: AVOGADRO, boltzmannK: BOLTZMANN_K, electronRestEnergy: ELECTRON_REST_ENERGY, radiationA: RADIATION_A,
+    ionGasConstant: R_ION, lnIonQuantumConcentration: LN_ION_QC, speedOfLight2: SPEED_OF_LIGHT * SPEED_OF_LIGHT,
+    pairZC: PAIR_Z_C, lnKOverMec2: LN_K_OVER_MEC2, lnHalfAvogadro: LN_HALF_AVOGADRO, lnShareFloor: LN_SHARE_FLOOR,
+    e2OverK: E2_OVER_K, fourPiOver3Avogadro: FOUR_PI_OVER_3_NA, ocpA3: OCP_A3, invSqrtA2: INV_SQRT_A2, halfLnA2: HALF_LN_A2,
+    rydberg: RYDBERG, sahaFactor: PARTIAL_IONIZATION_SAHA_FACTOR, bohrRadius: BOHR_RADIUS,
+  });
+  return tableBatch;
+}
+
+/** dst[at..at + n) = src[from..from + n) (an element loop for small batches: a subarray view costs more). */
+function copyColumn(dst: Float64Array, at: number, src: Float64Array, from: number, n: number): void {
+  if (n <= 16) for (let i = 0; i < n; i++) dst[at + i] = src[from + i];
+  else dst.set(src.subarray(from, from + n), at);
+}
+
+/** Points per call of the WebAssembly loop (its memory holds one chunk's inputs and outputs, ~0.6 KB a point). */
+const TABLE_CHUNK = 1 << 15;
 
 /**
- * evaluate() for method "table": one fused loop over the points with the output columns held in
- * locals, the ion and photon terms written out (the formulas of ions.ts and radiation.ts), the
- * electron–positron gas from tablePairGas and the Coulomb term from coulomb.ts; the same arithmetic,
- * in the same order, as PointKernel + storePoint (tests/eos/table-evaluate.test.ts compares them),
- * without their per-point object traffic. No allocation per point.
+ * evaluate() for method "table": the whole per-point loop runs in WebAssembly (eos/wasm/: the
+ * formulas of tablePairGas, ions.ts, radiation.ts, coulomb.ts and storePoint, in the same order as
+ * PointKernel + storePoint, which tests/eos/free-energy-table.test.ts compares it with); here the
+ * columns are copied in and out chunk by chunk, points the loop could not compute get their status
+ * and message in the same order of checks as the exact method, and the Maxwell residuals are formed.
  */
 function evaluateTableBatch(
   res: EvaluateResult, rhoCol: Float64Array, tCol: Float64Array, comp: ResolvedComposition, mixture: MixtureData | null,
   inc: IncludeFlags, table: FreeEnergyTable, relativistic: boolean,
 ): void {
   const n = res.n;
-  const pair = createPairGasState();
-  const pos = pair.positrons;
-  const co = createCoulombTerms();
-  const incE = inc.electrons, incP = inc.positrons, incI = inc.ions, incG = inc.photons, incC = inc.coulomb;
-  const cAbar = comp.abar, cZbar = comp.zbar, cZmax = comp.zmax, cReason = comp.reason;
-  const oP = res.pressure, oE = res.specificEnergy, oS = res.specificEntropy, oPr = res.dPdRho, oPT = res.dPdT;
-  const oEr = res.dEdRho, oET = res.dEdT, oSr = res.dSdRho, oST = res.dSdT, oPA = res.dPdAbar, oPZ = res.dPdZbar;
-  const oEA = res.dEdAbar, oEZ = res.dEdZbar, oCv = res.cv, oCp = res.cp, oG1 = res.gamma1, oG3 = res.gamma3;
-  const oChR = res.chiRho, oChT = res.chiT, oNab = res.nablaAd, oCs = res.soundSpeed, oEta = res.eta;
-  const oNe = res.electronDensity, oNp = res.positronDensity, oGam = res.coulombGamma, oRad = res.radiationPressureFraction;
-  const oW = res.warnings;
-  const ce = res.components.electrons, cp = res.components.positrons, ci = res.components.ions, cg = res.components.photons, cc = res.components.coulomb;
-  const eP = ce.pressure, eE = ce.specificEnergy, eS = ce.specificEntropy, ePr = ce.dPdRho, ePT = ce.dPdT, eEr = ce.dEdRho, eET = ce.dEdT, eSr = ce.dSdRho, eST = ce.dSdT;
-  const pP = cp.pressure, pE = cp.specificEnergy, pS = cp.specificEntropy, pPr = cp.dPdRho, pPT = cp.dPdT, pEr = cp.dEdRho, pET = cp.dEdT, pSr = cp.dSdRho, pST = cp.dSdT;
-  const iP = ci.pressure, iE = ci.specificEnergy, iS = ci.specificEntropy, iPr = ci.dPdRho, iPT = ci.dPdT, iEr = ci.dEdRho, iET = ci.dEdT, iSr = ci.dSdRho, iST = ci.dSdT;
-  const gP = cg.pressure, gE = cg.specificEnergy, gS = cg.specificEntropy, gPr = cg.dPdRho, gPT = cg.dPdT, gEr = cg.dEdRho, gET = cg.dEdT, gSr = cg.dSdRho, gST = cg.dSdT;
-  const kP = cc.pressure, kE = cc.specificEnergy, kS = cc.specificEntropy, kPr = cc.dPdRho, kPT = cc.dPdT, kEr = cc.dEdRho, kET = cc.dEdT, kSr = cc.dSdRho, kST = cc.dSdT;
+  const flags = (inc.electrons ? FLAG.electrons : 0) | (inc.positrons ? FLAG.positrons : 0) | (inc.ions ? FLAG.ions : 0)
+    | (inc.photons ? FLAG.photons : 0) | (inc.coulomb ? FLAG.coulomb : 0) | (relativistic ? FLAG.relativistic : 0)
+    | (res.breakdown ? FLAG.breakdown : 0);
+  const engine = tableBatchEngine();
+  const columns = [rhoCol, tCol, comp.abar, comp.zbar, comp.zmax];
+  const reason = comp.reason;
+  for (let from = 0; from < n; from += TABLE_CHUNK) {
+    const m = Math.min(TABLE_CHUNK, n - from);
+    const out = engine.run(table, from, m, columns, flags, mixture);
+    const v = out.values;
+    for (let k = 0; k < OUTPUT_COLUMNS.length; k++) copyColumn(res[OUTPUT_COLUMNS[k]], from, v, k * m, m);
+    if (res.breakdown) {
+      let k = OUTPUT_COLUMNS.length;
+      for (const c of COMPONENT_NAMES) for (const q of OUTPUT_COMPONENT_COLUMNS) copyColumn(res.components[c][q], from, v, m * k++, m);
+    }
+    const w = out.warnings, st = out.status;
+    for (let j = 0; j < m; j++) res.warnings[from + j] = w[j];
+    for (let j = 0; j < m; j++) {
+      const i = from + j;
+      if (st[j] === 0 && reason[i] === 0) continue;
+      const rho = rhoCol[i], T = tCol[i];
+      let code = densityStatus(rho);
+      if (code !== STATUS.OK) { failPoint(res, i, code, densityMessage(rho)); continue; }
+      code = temperatureStatus(T);
+      if (code !== STATUS.OK) { failPoint(res, i, code, temperatureMessage(T)); continue; }
+      code = compositionStatus(comp, i);
+      if (code !== STATUS.OK) { failPoint(res, i, code, comp.messages[i]); continue; }
+      if (st[j] === 2) failPoint(res, i, STATUS.TABLE_OUT_OF_RANGE, tableOutsideMessage(table, rho, comp.ye[i], T));
+    }
+  }
   const mx = res.maxwell;
-  const breakdown = res.breakdown;
-  for (let i = 0; i < n; i++) {
-    const rho = rhoCol[i];
-    const T = tCol[i];
-    if (!(rho >= DENSITY_MIN && rho <= DENSITY_MAX)) {
-      failPoint(res, i, densityStatus(rho), densityMessage(rho));
-      continue;
-    }
-    if (!(T >= TEMPERATURE_MIN && T <= TEMPERATURE_MAX)) {
-      failPoint(res, i, temperatureStatus(T), temperatureMessage(T));
-      continue;
-    }
-    if (cReason[i] !== 0) {
-      const st = compositionStatus(comp, i);
-      if (st !== STATUS.OK) {
-        failPoint(res, i, st, comp.messages[i]);
-        continue;
-      }
-    }
-    const abar = cAbar[i];
-    const zbar = cZbar[i];
-    const ye = zbar / abar;
-    const d = (rho * zbar) / abar;
-    if (tablePairGas(table, d, T, pair) !== TABLE_OK) {
-      failPoint(res, i, STATUS.TABLE_OUT_OF_RANGE, tableOutsideMessage(table, rho, ye, T));
-      continue;
-    }
-    // electron–positron gas per unit mass (pairSpeciesTerms): totals, positrons, electrons = totals − positrons
-    const dDdAbar = -(rho * ye) / abar;
-    const dDdZbar = rho / abar;
-    const tP = pair.pressure, tPr = ye * pair.dPdD, tPT = pair.dPdT, tPA = pair.dPdD * dDdAbar, tPZ = pair.dPdD * dDdZbar;
-    const te = pair.energy / rho;
-    const tEr = (ye * pair.dUdD - te) / rho, tET = pair.dUdT / rho, tEA = (pair.dUdD * dDdAbar) / rho, tEZ = (pair.dUdD * dDdZbar) / rho;
-    const ts = pair.entropy / rho;
-    const tSr = (ye * pair.dSdD - ts) / rho, tST = pair.dSdT / rho;
-    const qP = pos.pressure, qPr = ye * pos.dPdD, qPT = pos.dPdT, qPA = pos.dPdD * dDdAbar, qPZ = pos.dPdD * dDdZbar;
-    const qe = pos.energy / rho;
-    const qEr = (ye * pos.dUdD - qe) / rho, qET = pos.dUdT / rho, qEA = (pos.dUdD * dDdAbar) / rho, qEZ = (pos.dUdD * dDdZbar) / rho;
-    const qs = pos.entropy / rho;
-    const qSr = (ye * pos.dSdD - qs) / rho, qST = pos.dSdT / rho;
-    const lP = tP - qP, lPr = tPr - qPr, lPT = tPT - qPT, lPA = tPA - qPA, lPZ = tPZ - qPZ;
-    const le = te - qe, lEr = tEr - qEr, lET = tET - qET, lEA = tEA - qEA, lEZ = tEZ - qEZ;
-    const ls = ts - qs, lSr = tSr - qSr, lST = tST - qST;
-    // ions (ions.ts, Sackur–Tetrode)
-    const c = R_ION / abar;
-    const ionP = rho * c * T, ionPr = c * T, ionPT = rho * c, ionPA = -ionP / abar;
-    const ionE = 1.5 * c * T, ionET = 1.5 * c, ionEA = -ionE / abar;
-    const lnRatio = 1.5 * Math.log(abar * T) + LN_ION_QC - Math.log((rho * AVOGADRO) / abar);
-    const ionS = c * (lnRatio + 2.5), ionSr = -c / rho, ionST = (1.5 * c) / T;
-    // photons (radiation.ts, Planck)
-    const aT3 = RADIATION_A * T * T * T;
-    const aT4 = aT3 * T;
-    const phP = aT4 / 3, phPT = (4 * aT3) / 3, phE = aT4 / rho, phEr = -aT4 / (rho * rho), phET = (4 * aT3) / rho;
-    const phS = (4 * aT3) / (3 * rho), phSr = -phS / rho, phST = (4 * RADIATION_A * T * T) / rho;
-    // Coulomb (coulomb.ts)
-    coulombCorrection(rho, T, abar, zbar, mixture, i, co);
-    // totals, summed in PointKernel's order
-    let P = 0, Pr = 0, PT = 0, PA = 0, PZ = 0, e = 0, Er = 0, ET = 0, EA = 0, EZ = 0, s = 0, Sr = 0, ST = 0;
-    if (incE) { P += lP; Pr += lPr; PT += lPT; PA += lPA; PZ += lPZ; e += le; Er += lEr; ET += lET; EA += lEA; EZ += lEZ; s += ls; Sr += lSr; ST += lST; }
-    if (incP) { P += qP; Pr += qPr; PT += qPT; PA += qPA; PZ += qPZ; e += qe; Er += qEr; ET += qET; EA += qEA; EZ += qEZ; s += qs; Sr += qSr; ST += qST; }
-    if (incI) { P += ionP; Pr += ionPr; PT += ionPT; PA += ionPA; e += ionE; ET += ionET; EA += ionEA; s += ionS; Sr += ionSr; ST += ionST; }
-    if (incG) { P += phP; PT += phPT; e += phE; Er += phEr; ET += phET; s += phS; Sr += phSr; ST += phST; }
-    if (incC) {
-      P += co.pressure; Pr += co.dPdRho; PT += co.dPdT; PA += co.dPdAbar; PZ += co.dPdZbar;
-      e += co.energy; Er += co.dEdRho; ET += co.dEdT; EA += co.dEdAbar; EZ += co.dEdZbar;
-      s += co.entropy; Sr += co.dSdRho; ST += co.dSdT;
-    }
-    oP[i] = P; oE[i] = e; oS[i] = s; oPr[i] = Pr; oPT[i] = PT; oEr[i] = Er; oET[i] = ET; oSr[i] = Sr; oST[i] = ST;
-    oPA[i] = PA; oPZ[i] = PZ; oEA[i] = EA; oEZ[i] = EZ;
-    // derived quantities (storePoint)
-    const cv = ET;
-    const g3m1 = PT / (rho * cv);
-    const g1P = rho * Pr + (T * PT * PT) / (rho * cv);
-    const g1 = g1P / P;
-    oCv[i] = cv;
-    oChR[i] = (rho * Pr) / P;
-    oChT[i] = (T * PT) / P;
-    oG3[i] = 1 + g3m1;
-    oG1[i] = g1;
-    oNab[i] = g3m1 / g1;
-    oCp[i] = (cv * g1P) / (rho * Pr);
-    let cs2 = g1P / rho;
-    if (relativistic) cs2 = cs2 / (1 + (e + P / rho) / C2);
-    oCs[i] = cs2 > 0 ? Math.sqrt(cs2) : 0;
-    oEta[i] = pair.eta;
-    oNe[i] = pair.electronDensity;
-    oNp[i] = pair.positronDensity;
-    oGam[i] = co.gamma;
-    oRad[i] = incG ? phP / P : 0;
-    if (breakdown) {
-      if (incE) { eP[i] = lP; eE[i] = le; eS[i] = ls; ePr[i] = lPr; ePT[i] = lPT; eEr[i] = lEr; eET[i] = lET; eSr[i] = lSr; eST[i] = lST; }
-      else { eP[i] = 0; eE[i] = 0; eS[i] = 0; ePr[i] = 0; ePT[i] = 0; eEr[i] = 0; eET[i] = 0; eSr[i] = 0; eST[i] = 0; }
-      if (incP) { pP[i] = qP; pE[i] = qe; pS[i] = qs; pPr[i] = qPr; pPT[i] = qPT; pEr[i] = qEr; pET[i] = qET; pSr[i] = qSr; pST[i] = qST; }
-      else { pP[i] = 0; pE[i] = 0; pS[i] = 0; pPr[i] = 0; pPT[i] = 0; pEr[i] = 0; pET[i] = 0; pSr[i] = 0; pST[i] = 0; }
-      if (incI) { iP[i] = ionP; iE[i] = ionE; iS[i] = ionS; iPr[i] = ionPr; iPT[i] = ionPT; iEr[i] = 0; iET[i] = ionET; iSr[i] = ionSr; iST[i] = ionST; }
-      else { iP[i] = 0; iE[i] = 0; iS[i] = 0; iPr[i] = 0; iPT[i] = 0; iEr[i] = 0; iET[i] = 0; iSr[i] = 0; iST[i] = 0; }
-      if (incG) { gP[i] = phP; gE[i] = phE; gS[i] = phS; gPr[i] = 0; gPT[i] = phPT; gEr[i] = phEr; gET[i] = phET; gSr[i] = phSr; gST[i] = phST; }
-      else { gP[i] = 0; gE[i] = 0; gS[i] = 0; gPr[i] = 0; gPT[i] = 0; gEr[i] = 0; gET[i] = 0; gSr[i] = 0; gST[i] = 0; }
-      if (incC) {
-        kP[i] = co.pressure; kE[i] = co.energy; kS[i] = co.entropy; kPr[i] = co.dPdRho; kPT[i] = co.dPdT;
-        kEr[i] = co.dEdRho; kET[i] = co.dEdT; kSr[i] = co.dSdRho; kST[i] = co.dSdT;
-      } else { kP[i] = 0; kE[i] = 0; kS[i] = 0; kPr[i] = 0; kPT[i] = 0; kEr[i] = 0; kET[i] = 0; kSr[i] = 0; kST[i] = 0; }
-    }
-    // warnings (PointKernel.warnings)
-    const zmax = cZmax[i];
-    let w = 0;
-    if (partialIonizationLikely(rho, T, abar, zmax)) w |= WARNING.PARTIAL_IONIZATION;
-    if (rho > NEUTRON_DRIP_DENSITY) w |= WARNING.NEUTRON_DRIP;
-    if (co.gamma > GAMMA_MELT) w |= WARNING.CRYSTALLIZED;
-    if (!(P > 0)) w |= WARNING.NON_POSITIVE_PRESSURE;
-    const cs2w = Pr + (T * PT * PT) / (rho * rho * ET);
-    if (!(Pr > 0) || !(cs2w > 0)) w |= WARNING.MECHANICALLY_UNSTABLE;
-    if (incI && lnRatio <= 0) w |= WARNING.QUANTUM_IONS;
-    oW[i] = w;
-    if (mx) {
-      const a = rho * rho * Er;
+  if (mx) {
+    for (let i = 0; i < n; i++) {
+      if (res.status[i] !== STATUS.OK) continue;
+      const rho = rhoCol[i], T = tCol[i], P = res.pressure[i], PT = res.dPdT[i];
+      const a = rho * rho * res.dEdRho[i];
       const b = P - T * PT;
       mx.energy[i] = (a - b) / (Math.abs(a) + Math.abs(P) + Math.abs(T * PT));
-      const c1 = ST;
-      const c2 = ET / T;
+      const c1 = res.dSdT[i];
+      const c2 = res.dEdT[i] / T;
       mx.entropyT[i] = (c1 - c2) / (Math.abs(c1) + Math.abs(c2));
-      const d1 = Sr;
+      const d1 = res.dSdRho[i];
       const d2 = -PT / (rho * rho);
       mx.entropyRho[i] = (d1 - d2) / (Math.abs(d1) + Math.abs(d2));
     }

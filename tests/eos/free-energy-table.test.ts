@@ -14,7 +14,11 @@ import {
 } from '../../eos/free-energy-table.js';
 import { thirdOrderIntegrals, pairGasNode, NODE_LENGTH, NODE_FDTT, NODE_FDDTT, NODE_FDT, NODE_FDDT } from '../../eos/pair-gas-second-derivatives.js';
 import { generalizedFermiDiracSet, FD_SET_LENGTH } from '../../eos/fermi-dirac.js';
-import { allocateResult, evaluate, failPoint, includeFlags, PointKernel, STATUS, storePoint } from '../../eos/state.js';
+import {
+  allocateResult, COMPONENT_COLUMNS, COMPONENT_NAMES, evaluate, failPoint, includeFlags, mixtureOf, PointKernel, prepareComposition, STATUS,
+  storePoint, TOTAL_COLUMNS,
+  type ComponentName, type EvaluateResult,
+} from '../../eos/state.js';
 
 const GRID: TableGrid = {
   logDensityYeMin: -6, logDensityYeMax: -2, logTemperatureMin: 4, logTemperatureMax: 7,
@@ -165,7 +169,54 @@ test('resolveGrid: the pair-onset band snaps to the coarse axis and clips to the
   assert.throws(() => validateGrid({ ...ONSET_GRID, refinedTemperature: { logTemperatureMin: 8, logTemperatureMax: 11, pointsPerDecade: 60 } }), /inside/);
 });
 
-test('method "table": the fused evaluate loop gives exactly what the per-point kernel (PointKernel + storePoint, used by invert) gives, every column', () => {
+type Columns = Map<string, Float64Array>;
+
+/** Every numeric column of a result by name (totals, components, Maxwell residuals). */
+function numericColumns(r: EvaluateResult): Columns {
+  const m: Columns = new Map();
+  for (const k of TOTAL_COLUMNS) m.set(k, r[k]);
+  for (const c of COMPONENT_NAMES) for (const k of COMPONENT_COLUMNS) m.set(`${c}.${k}`, r.components[c][k]);
+  if (r.maxwell) for (const k of ['energy', 'entropyT', 'entropyRho'] as const) m.set(`maxwell.${k}`, r.maxwell[k]);
+  return m;
+}
+
+/**
+ * Scale of a column's value at point i that does not vanish where terms cancel: for a quantity
+ * with per-component columns (totals and components) the sum of the components' magnitudes, for
+ * the Maxwell residuals (normalized differences) 1, the positron density the electron density and η
+ * max(1, |η|) (as the table's accuracy report), else the value's own magnitude.
+ */
+function scaleOf(r: EvaluateResult, name: string, i: number): number {
+  const k = name.includes('.') ? name.slice(name.indexOf('.') + 1) : name;
+  if (name.startsWith('maxwell.')) return 1;
+  if (name === 'positronDensity') return r.electronDensity[i];
+  if (name === 'eta') return Math.max(1, Math.abs(r.eta[i]));
+  if ((COMPONENT_COLUMNS as readonly string[]).includes(k)) {
+    return COMPONENT_NAMES.reduce((sum, c) => sum + Math.abs(r.components[c][k as (typeof COMPONENT_COLUMNS)[number]][i]), 0);
+  }
+  return Math.abs(numericColumns(r).get(name)![i]);
+}
+
+/** The per-point kernel's result (PointKernel + storePoint) at (ρ·fRho, T·fT). */
+function perPointResult(like: EvaluateResult, rho: Float64Array, T: Float64Array, abar: Float64Array, zbar: Float64Array,
+  components: readonly ComponentName[] | undefined, relativistic: boolean, fRho: number, fT: number): EvaluateResult {
+  const n = rho.length;
+  const ref = allocateResult(n, like.included, true);
+  ref.method = 'table';
+  const kernel = new PointKernel(includeFlags(components), onsetTable);
+  for (let i = 0; i < n; i++) {
+    ref.density[i] = rho[i]; ref.temperature[i] = T[i]; ref.abar[i] = like.abar[i]; ref.zbar[i] = like.zbar[i]; ref.ye[i] = like.ye[i];
+    if (like.status[i] !== STATUS.OK) {
+      failPoint(ref, i, like.status[i], like.messages[i]);
+      continue;
+    }
+    assert.equal(kernel.compute(rho[i] * fRho, T[i] * fT, abar[i], zbar[i], null, i), STATUS.OK);
+    storePoint(ref, i, kernel, zbar[i], relativistic);
+  }
+  return ref;
+}
+
+test('method "table": the WebAssembly loop of evaluate agrees with the per-point kernel (PointKernel + storePoint, used by invert) to rounding in every column; statuses, messages and warnings are identical', () => {
   const n = 500;
   const rho = new Float64Array(n), T = new Float64Array(n), abar = new Float64Array(n), zbar = new Float64Array(n);
   let s = 777;
@@ -178,26 +229,99 @@ test('method "table": the fused evaluate loop gives exactly what the per-point k
   }
   rho[0] = -1; // a bad point and one outside the table keep their statuses
   rho[1] = 1e9;
+  abar[2] = -4; // a bad composition
+  // The module's maths library (AssemblyScript's, after musl) and V8's (after fdlibm) both round to
+  // within 1 ulp but not always the same way. So each value may differ by 1e-12 of its scale, or by
+  // what the per-point kernel itself changes when ρ or T moves by one ulp (where pairs dominate,
+  // the split of ∂P/∂ρ between electrons and positrons, ±1e17 around a total of 1e9, moves by ~1e-6
+  // of itself per ulp of ρ: measured), times 4.
+  const ULP = 2 ** -52;
+  let worst = { diff: 0, where: '' };
   for (const components of [undefined, ['electrons', 'ions', 'coulomb']] as const) {
     for (const soundSpeed of ['newtonian', 'relativistic'] as const) {
-      const opts = { method: 'table' as const, table: onsetTable, maxwellResiduals: true, components, soundSpeed };
-      const fused = evaluate({ density: rho, temperature: T, abar, zbar }, opts);
-      const inc = includeFlags(components);
-      const ref = allocateResult(n, fused.included, true);
-      ref.method = 'table';
-      const kernel = new PointKernel(inc, onsetTable);
-      for (let i = 0; i < n; i++) {
-        ref.density[i] = rho[i]; ref.temperature[i] = T[i]; ref.abar[i] = abar[i]; ref.zbar[i] = zbar[i]; ref.ye[i] = zbar[i] / abar[i];
-        if (fused.status[i] !== STATUS.OK) {
-          failPoint(ref, i, fused.status[i], fused.messages[i]);
-          continue;
+      const relativistic = soundSpeed === 'relativistic';
+      const batch = evaluate({ density: rho, temperature: T, abar, zbar }, { method: 'table', table: onsetTable, maxwellResiduals: true, components, soundSpeed });
+      const ref = perPointResult(batch, rho, T, abar, zbar, components, relativistic, 1, 1);
+      const moved = [[1 + ULP, 1], [1 - ULP, 1], [1, 1 + ULP], [1, 1 - ULP]].map(([fr, ft]) => numericColumns(perPointResult(batch, rho, T, abar, zbar, components, relativistic, fr, ft)));
+      assert.deepEqual(Array.from(batch.status.subarray(0, 3)), [STATUS.DENSITY_NOT_POSITIVE, STATUS.TABLE_OUT_OF_RANGE, STATUS.COMPOSITION_OUT_OF_DOMAIN]);
+      assert.deepEqual(batch.status, ref.status);
+      assert.deepEqual(batch.messages, ref.messages);
+      assert.deepEqual(batch.warnings, ref.warnings);
+      const mine = numericColumns(batch);
+      for (const [name, x] of numericColumns(ref)) {
+        const y = mine.get(name)!;
+        for (let i = 0; i < n; i++) {
+          if (Number.isNaN(x[i]) && Number.isNaN(y[i])) continue;
+          const spread = Math.max(...moved.map((m) => Math.abs(m.get(name)![i] - x[i])));
+          const diff = Math.abs(x[i] - y[i]) / (1e-12 * Math.max(scaleOf(ref, name, i), 1e-300) + 4 * spread);
+          assert.ok(diff <= 1, `${name}[${i}] (components ${components ?? 'all'}, ${soundSpeed}): per-point ${x[i]}, WebAssembly ${y[i]}, allowed ${(1e-12 * scaleOf(ref, name, i) + 4 * spread).toExponential(2)}`);
+          if (diff > worst.diff) worst = { diff, where: `${name}[${i}]` };
         }
-        assert.equal(kernel.compute(rho[i], T[i], abar[i], zbar[i], null, i), STATUS.OK);
-        storePoint(ref, i, kernel, zbar[i], soundSpeed === 'relativistic');
       }
-      assert.deepEqual(Array.from(fused.status.subarray(0, 2)), [STATUS.DENSITY_NOT_POSITIVE, STATUS.TABLE_OUT_OF_RANGE]);
-      assert.deepEqual(fused, ref);
     }
+  }
+  console.log(`largest difference WebAssembly loop vs per-point kernel: ${worst.diff.toFixed(3)} of the allowance (${worst.where})`);
+});
+
+test('method "table", nuclide mixtures: the WebAssembly loop\'s linear-mixing Coulomb term agrees with the per-point kernel\'s to rounding', () => {
+  const n = 200;
+  const rho = new Float64Array(n), T = new Float64Array(n), xH = new Float64Array(n), xHe = new Float64Array(n), xFe = new Float64Array(n);
+  let s = 4242;
+  const rnd = () => ((s = (s * 1103515245 + 12345) % 2147483648) / 2147483648);
+  for (let i = 0; i < n; i++) {
+    xH[i] = rnd(); xHe[i] = (1 - xH[i]) * rnd(); xFe[i] = 1 - xH[i] - xHe[i];
+    rho[i] = 10 ** (-2.5 + 5 * rnd());
+    T[i] = 10 ** (8.1 + 1.8 * rnd());
+  }
+  xHe[3] = 0; xFe[3] = 1 - xH[3]; // a species absent at one point
+  const input = { density: rho, temperature: T, nuclides: [{ a: 1, z: 1, massFraction: xH }, { a: 4, z: 2, massFraction: xHe }, { a: 56, z: 26, massFraction: xFe }], normalize: true as const };
+  const batch = evaluate(input, { method: 'table', table: onsetTable, maxwellResiduals: true });
+  const { comp } = prepareComposition(input, []);
+  const mixture = mixtureOf(comp)!;
+  const kernel = new PointKernel(includeFlags(undefined), onsetTable);
+  let computed = 0;
+  for (let i = 0; i < n; i++) {
+    if (batch.status[i] !== STATUS.OK) continue;
+    computed++;
+    assert.equal(kernel.compute(rho[i], T[i], comp.abar[i], comp.zbar[i], mixture, i), STATUS.OK);
+    const c = kernel.coulomb;
+    // the Coulomb term alone (no cancellation inside it): 1e-12 of its own size
+    const mine = batch.components.coulomb;
+    for (const [k, x, ref] of [['P', mine.pressure[i], c.P], ['e', mine.specificEnergy[i], c.e], ['s', mine.specificEntropy[i], c.s], ['∂P/∂T', mine.dPdT[i], c.dPdT], ['∂e/∂T', mine.dEdT[i], c.dEdT]] as const) {
+      assert.ok(Math.abs(x - ref) <= 1e-12 * Math.abs(ref), `Coulomb ${k}[${i}]: per-point ${ref}, WebAssembly ${x}`);
+    }
+    assert.ok(Math.abs(batch.coulombGamma[i] - kernel.coulombGamma) <= 1e-12 * kernel.coulombGamma);
+    assert.ok(Math.abs(batch.maxwell!.energy[i]) <= 1e-10 && Math.abs(batch.maxwell!.entropyT[i]) <= 1e-10 && Math.abs(batch.maxwell!.entropyRho[i]) <= 1e-10);
+  }
+  assert.ok(computed > 150, `${computed} of ${n} points inside the table`);
+});
+
+test('method "table": a batch longer than the WebAssembly loop\'s chunk (32 768 points) gives what its slices give, bit for bit, nuclide mixtures included', () => {
+  const n = 70000;
+  const rho = new Float64Array(n), T = new Float64Array(n), xHe = new Float64Array(n), xC = new Float64Array(n);
+  let s = 99;
+  const rnd = () => ((s = (s * 1103515245 + 12345) % 2147483648) / 2147483648);
+  for (let i = 0; i < n; i++) {
+    rho[i] = 10 ** (-2.5 + 5 * rnd());
+    T[i] = 10 ** (7.9 + 2.2 * rnd());
+    xHe[i] = rnd(); xC[i] = 1 - xHe[i];
+  }
+  rho[40000] = -1;
+  const inputs = [
+    (a: number, b: number) => ({ density: rho.subarray(a, b), temperature: T.subarray(a, b), abar: 12, zbar: 6 }),
+    (a: number, b: number) => ({ density: rho.subarray(a, b), temperature: T.subarray(a, b), nuclides: [{ a: 4, z: 2, massFraction: xHe.subarray(a, b) }, { a: 12, z: 6, massFraction: xC.subarray(a, b) }] }),
+  ];
+  for (const make of inputs) {
+    const whole = evaluate(make(0, n), { method: 'table', table: onsetTable, breakdown: true });
+    for (const [a, b] of [[0, 1000], [32000, 34000], [39990, 40010], [65530, 66000], [69000, 70000]]) {
+      const part = evaluate(make(a, b), { method: 'table', table: onsetTable, breakdown: true });
+      for (const k of TOTAL_COLUMNS) assert.deepEqual(whole[k].subarray(a, b), part[k], `${k} [${a}, ${b})`);
+      for (const c of COMPONENT_NAMES) assert.deepEqual(whole.components[c].dPdT.subarray(a, b), part.components[c].dPdT, `${c}.dPdT [${a}, ${b})`);
+      assert.deepEqual(whole.status.subarray(a, b), part.status);
+      assert.deepEqual(whole.warnings.subarray(a, b), part.warnings);
+      assert.deepEqual(whole.messages.slice(a, b), part.messages);
+    }
+    assert.equal(whole.status[40000], STATUS.DENSITY_NOT_POSITIVE);
   }
 });
 

@@ -1,0 +1,525 @@
+/**
+ * The table method's per-point loop in AssemblyScript, compiled to WebAssembly (scripts/build-wasm.ts):
+ * the interpolation of free-energy-table.ts `tablePairGas` (biquintic Hermite of the free energy,
+ * Timmes & Swesty 2000, with the analytic references of `kernelPairParts`), the ion (Sackur–Tetrode),
+ * photon (Planck) and Coulomb (Potekhin & Chabrier 2000 liquid OCP, linear mixing) terms and the
+ * derived quantities and warnings of state.ts — the same formulas in the same order as the
+ * JavaScript per-point path (PointKernel + storePoint), which stays the reference: results agree to
+ * rounding (this module's maths library differs from V8's in the last bit; tests bound the
+ * difference). See eos/README.md "Table method" for the formulas and their sources.
+ * Memory: eos/wasm/table-batch.ts lays out everything above heapBase(); pointers are byte offsets.
+ * Nothing here allocates.
+ */
+
+// constants (set by JS from eos/constants.ts and the modules that derive them, so they are the same doubles)
+let AVOGADRO: f64 = 0, BOLTZMANN_K: f64 = 0, ELECTRON_REST_ENERGY: f64 = 0, RADIATION_A: f64 = 0;
+let R_ION: f64 = 0, LN_ION_QC: f64 = 0, C2: f64 = 0, PAIR_Z_C: f64 = 0, LN_K_OVER_MEC2: f64 = 0, LN_HALF_AVOGADRO: f64 = 0;
+let LN_SHARE_FLOOR: f64 = 0, E2_OVER_K: f64 = 0, FOUR_PI_OVER_3_NA: f64 = 0, OCP_A3: f64 = 0, INV_SQRT_A2: f64 = 0, HALF_LN_A2: f64 = 0;
+let RYDBERG: f64 = 0, SAHA_FACTOR: f64 = 0, BOHR_RADIUS: f64 = 0;
+
+const SHARE_FLOOR: f64 = 1e-30;
+const PAIR_TAPER_BETA: f64 = 0.7;
+const PAIR_TAPER_POWER: f64 = 3;
+const STRIDE: i32 = 33;
+const OCP_A1: f64 = -0.907, OCP_A2: f64 = 0.62954, OCP_B1: f64 = 4.56e-3, OCP_B2: f64 = 211.6, OCP_B3: f64 = -1e-4, OCP_B4: f64 = 4.62e-3;
+const INV_B2: f64 = 1 / OCP_B2, INV_B4: f64 = 1 / OCP_B4;
+const GAMMA_MELT: f64 = 175;
+const NEUTRON_DRIP_DENSITY: f64 = 4e11;
+const DENSITY_MIN: f64 = 1e-12, DENSITY_MAX: f64 = 1e15, TEMPERATURE_MIN: f64 = 1e3, TEMPERATURE_MAX: f64 = 1e13;
+
+export function heapBase(): usize { return __heap_base; }
+
+export function setConstants(p: usize): void {
+  AVOGADRO = load<f64>(p); BOLTZMANN_K = load<f64>(p, 8); ELECTRON_REST_ENERGY = load<f64>(p, 16); RADIATION_A = load<f64>(p, 24);
+  R_ION = load<f64>(p, 32); LN_ION_QC = load<f64>(p, 40); C2 = load<f64>(p, 48); PAIR_Z_C = load<f64>(p, 56);
+  LN_K_OVER_MEC2 = load<f64>(p, 64); LN_HALF_AVOGADRO = load<f64>(p, 72); LN_SHARE_FLOOR = load<f64>(p, 80); E2_OVER_K = load<f64>(p, 88);
+  FOUR_PI_OVER_3_NA = load<f64>(p, 96); OCP_A3 = load<f64>(p, 104); INV_SQRT_A2 = load<f64>(p, 112); HALF_LN_A2 = load<f64>(p, 120);
+  RYDBERG = load<f64>(p, 128); SAHA_FACTOR = load<f64>(p, 136); BOHR_RADIUS = load<f64>(p, 144);
+}
+
+// table
+let tData: usize = 0, tCold: usize = 0, nD: i32 = 0, nT: i32 = 0;
+let gLogDMin: f64 = 0, gPpdD: f64 = 0;
+let ax0: f64 = 0, ax1: f64 = 0, ax2: f64 = 0, ax3: f64 = 0, ax4: f64 = 0, ax5: f64 = 0, ax6: f64 = 0, ax7: f64 = 0, ax8: f64 = 0, ax9: f64 = 0;
+
+export function setTable(data: usize, cold: usize, axis: usize, nd: i32, nt: i32, logDMin: f64, ppdD: f64): void {
+  tData = data; tCold = cold; nD = nd; nT = nt; gLogDMin = logDMin; gPpdD = ppdD;
+  ax0 = load<f64>(axis); ax1 = load<f64>(axis, 8); ax2 = load<f64>(axis, 16); ax3 = load<f64>(axis, 24); ax4 = load<f64>(axis, 32);
+  ax5 = load<f64>(axis, 40); ax6 = load<f64>(axis, 48); ax7 = load<f64>(axis, 56); ax8 = load<f64>(axis, 64); ax9 = load<f64>(axis, 72);
+}
+
+// @ts-ignore: decorator
+@inline function D(o: i32): f64 { return load<f64>(tData + (<usize>o << 3)); }
+
+// pair-gas results of one point (globals: no memory traffic)
+let pP: f64 = 0, pPT: f64 = 0, pU: f64 = 0, pUD: f64 = 0, pUT: f64 = 0, pS: f64 = 0, pSD: f64 = 0, pST: f64 = 0, pPD: f64 = 0;
+let pEta: f64 = 0, pNe: f64 = 0, pNp: f64 = 0;
+let qP: f64 = 0, qPD: f64 = 0, qPT: f64 = 0, qU: f64 = 0, qUD: f64 = 0, qUT: f64 = 0, qS: f64 = 0, qSD: f64 = 0, qST: f64 = 0;
+// kernelPairParts
+let kp0: f64 = 0, kp1: f64 = 0, kp2: f64 = 0, kp3: f64 = 0, kp4: f64 = 0, kp5: f64 = 0, kp6: f64 = 0, kp7: f64 = 0, kp9: f64 = 0, kp10: f64 = 0, kp11: f64 = 0;
+
+function kernelPairParts(d: f64, T: f64, u: f64, v: f64): bool {
+  const beta = (BOLTZMANN_K * T) / ELECTRON_REST_ENERGY;
+  const ib = 1 / beta;
+  const S = 1 + beta * (15.0 / 8 + beta * (105.0 / 128));
+  const S1 = beta * (15.0 / 8 + beta * (105.0 / 64));
+  const lnS = Math.log(S);
+  const lnBeta = v + LN_K_OVER_MEC2;
+  const Lr = PAIR_Z_C + 1.5 * lnBeta + lnS;
+  const L1r = 1.5 + S1 / S;
+  const L1 = L1r + ib;
+  const lnHalfN0 = u + LN_HALF_AVOGADRO;
+  const lamR = lnHalfN0 - Lr;
+  const lam = lamR + ib;
+  let etaB: f64, g1: f64, B: f64;
+  if (lam > 20) {
+    const e2 = Math.exp(-2 * lam);
+    etaB = lamR + Math.LN2 + Math.log1p(0.5 * (Math.sqrt(1 + e2) - 1));
+    g1 = 1 - 0.5 * e2;
+    B = -0.5 * Math.log1p(e2);
+  } else {
+    const a = Math.exp(lam);
+    const r = Math.sqrt(1 + a * a);
+    etaB = Math.log(a + r) - ib;
+    g1 = a / r;
+    B = lam - 0.5 * Math.log1p(a * a);
+  }
+  kp0 = etaB;
+  kp1 = B;
+  const rho = -etaB - lamR - 2 * ib - Math.LN2;
+  const rhoU = -g1 - 1, rhoV = L1 * (1 + g1);
+  const dr = rho - LN_SHARE_FLOOR;
+  kp11 = dr;
+  if (dr < -40) {
+    kp2 = LN_SHARE_FLOOR + Math.exp(dr); kp3 = 0; kp4 = 0;
+  } else if (dr > 40) {
+    kp2 = rho; kp3 = rhoU; kp4 = rhoV;
+  } else {
+    const ed = Math.exp(-Math.abs(dr));
+    const sig = dr > 0 ? 1 / (1 + ed) : ed / (1 + ed);
+    kp2 = (dr > 0 ? rho : LN_SHARE_FLOOR) + Math.log1p(ed);
+    kp3 = sig * rhoU;
+    kp4 = sig * rhoV;
+  }
+  if (beta < 0.01) return false;
+  const bt = beta / PAIR_TAPER_BETA;
+  const b4 = bt * bt * bt;
+  const lamT = lam + b4;
+  if (lamT > 40) return false;
+  const S2 = beta * beta * (105.0 / 64);
+  const LT1 = L1 - PAIR_TAPER_POWER * b4;
+  const s1s = S1 / S;
+  const LT2 = -ib + S1 / S + S2 / S - s1s * s1s - PAIR_TAPER_POWER * PAIR_TAPER_POWER * b4;
+  const a = Math.exp(lamT);
+  const r = a > 1e8 ? a * (1 + 0.5 / (a * a)) : Math.sqrt(1 + a * a);
+  const q = 1 / (a * (a + r));
+  const P0 = Math.log1p(0.5 * q) - q;
+  const P1 = q;
+  const P2 = -1 / (a * r);
+  const E = BOLTZMANN_K * AVOGADRO * T;
+  kp5 = E * P0;
+  kp6 = E * P1;
+  kp7 = E * (P0 - LT1 * P1);
+  kp9 = E * (P1 - LT1 * P2);
+  kp10 = E * (P0 - 2 * LT1 * P1 - LT2 * P1 + LT1 * LT1 * P2);
+  return true;
+}
+
+/** tablePairGas: 0 ok, 1 outside */
+function tablePairGas(d: f64, T: f64): i32 {
+  const u = Math.log(d);
+  const v = Math.log(T);
+  const invHu = gPpdD / Math.LN10;
+  const fx = (u - gLogDMin * Math.LN10) * invHu;
+  const nA = ax5, nB = ax6, nT1 = ax7;
+  let fy = (v - ax0) * ax3;
+  let invHv = ax3, hv = ax8;
+  let jOff: f64 = 0;
+  if (fy > nA) {
+    const fb = (v - ax1) * ax4;
+    if (fb <= nB) {
+      fy = fb; jOff = nA; invHv = ax4; hv = ax9;
+    } else {
+      fy = (v - ax2) * ax3; jOff = nA + nB;
+    }
+  }
+  if (!(fx >= -1e-9 && fx <= <f64>(nD - 1) + 1e-9 && fy + jOff >= -1e-9 && fy + jOff <= nT1 + 1e-9)) return 1;
+  let i = <i32>Math.floor(fx);
+  let j = <i32>(Math.floor(fy) + jOff);
+  if (i > nD - 2) i = nD - 2;
+  if (j > nT - 2) j = nT - 2;
+  if (i < 0) i = 0;
+  if (j < 0) j = 0;
+  const x = fx - <f64>i;
+  const y = fy + jOff - <f64>j;
+  const mx = 1 - x;
+  const my = 1 - y;
+  const x2 = x * x, x3 = x2 * x, x4 = x3 * x, x5 = x4 * x;
+  const m2 = mx * mx, m3 = m2 * mx, m4 = m3 * mx, m5 = m4 * mx;
+  const a00 = 1 - 10 * x3 + 15 * x4 - 6 * x5, a01 = x - 6 * x3 + 8 * x4 - 3 * x5, a02 = 0.5 * (x2 - 3 * x3 + 3 * x4 - x5);
+  const a10 = 1 - 10 * m3 + 15 * m4 - 6 * m5, a11 = -(mx - 6 * m3 + 8 * m4 - 3 * m5), a12 = 0.5 * (m2 - 3 * m3 + 3 * m4 - m5);
+  const b00d = -30 * x2 + 60 * x3 - 30 * x4, b01d = 1 - 18 * x2 + 32 * x3 - 15 * x4, b02d = 0.5 * (2 * x - 9 * x2 + 12 * x3 - 5 * x4);
+  const b10d = 30 * m2 - 60 * m3 + 30 * m4, b11d = 1 - 18 * m2 + 32 * m3 - 15 * m4, b12d = -0.5 * (2 * mx - 9 * m2 + 12 * m3 - 5 * m4);
+  const y2 = y * y, y3 = y2 * y, y4 = y3 * y, y5 = y4 * y;
+  const n2 = my * my, n3 = n2 * my, n4 = n3 * my, n5 = n4 * my;
+  const p00 = 1 - 10 * y3 + 15 * y4 - 6 * y5, p01u = y - 6 * y3 + 8 * y4 - 3 * y5, p02u = 0.5 * (y2 - 3 * y3 + 3 * y4 - y5);
+  const p10 = 1 - 10 * n3 + 15 * n4 - 6 * n5, p11u = -(my - 6 * n3 + 8 * n4 - 3 * n5), p12u = 0.5 * (n2 - 3 * n3 + 3 * n4 - n5);
+  const q00 = -30 * y2 + 60 * y3 - 30 * y4, q01u = 1 - 18 * y2 + 32 * y3 - 15 * y4, q02u = 0.5 * (2 * y - 9 * y2 + 12 * y3 - 5 * y4);
+  const q10 = 30 * n2 - 60 * n3 + 30 * n4, q11u = 1 - 18 * n2 + 32 * n3 - 15 * n4, q12u = -0.5 * (2 * my - 9 * n2 + 12 * n3 - 5 * n4);
+  const r00 = -60 * y + 180 * y2 - 120 * y3, r01u = -36 * y + 96 * y2 - 60 * y3, r02u = 0.5 * (2 - 18 * y + 36 * y2 - 20 * y3);
+  const r10 = -60 * my + 180 * n2 - 120 * n3, r11u = -(-36 * my + 96 * n2 - 60 * n3), r12u = 0.5 * (2 - 18 * my + 36 * n2 - 20 * n3);
+  const hv2 = hv * hv;
+  const p01 = p01u * hv, p02 = p02u * hv2, p11 = p11u * hv, p12 = p12u * hv2;
+  const q01 = q01u * hv, q02 = q02u * hv2, q11 = q11u * hv, q12 = q12u * hv2;
+  const r01 = r01u * hv, r02 = r02u * hv2, r11 = r11u * hv, r12 = r12u * hv2;
+
+  let F: f64 = 0, Fx: f64 = 0, Fy: f64 = 0, Fxy: f64 = 0, Fyy: f64 = 0;
+  const oA = (i * nT + j) * STRIDE, oB = oA + nT * STRIDE, oC = oA + STRIDE, oD = oB + STRIDE;
+  {
+    const A0 = D(oA) * a00 + D(oA + 1) * a01 + D(oA + 3) * a02 + D(oB) * a10 + D(oB + 1) * a11 + D(oB + 3) * a12;
+    const A1 = D(oA + 2) * a00 + D(oA + 4) * a01 + D(oA + 6) * a02 + D(oB + 2) * a10 + D(oB + 4) * a11 + D(oB + 6) * a12;
+    const A2 = D(oA + 5) * a00 + D(oA + 7) * a01 + D(oA + 8) * a02 + D(oB + 5) * a10 + D(oB + 7) * a11 + D(oB + 8) * a12;
+    const B0 = D(oA) * b00d + D(oA + 1) * b01d + D(oA + 3) * b02d + D(oB) * b10d + D(oB + 1) * b11d + D(oB + 3) * b12d;
+    const B1 = D(oA + 2) * b00d + D(oA + 4) * b01d + D(oA + 6) * b02d + D(oB + 2) * b10d + D(oB + 4) * b11d + D(oB + 6) * b12d;
+    const B2 = D(oA + 5) * b00d + D(oA + 7) * b01d + D(oA + 8) * b02d + D(oB + 5) * b10d + D(oB + 7) * b11d + D(oB + 8) * b12d;
+    F += A0 * p00 + A1 * p01 + A2 * p02;
+    Fy += A0 * q00 + A1 * q01 + A2 * q02;
+    Fyy += A0 * r00 + A1 * r01 + A2 * r02;
+    Fx += B0 * p00 + B1 * p01 + B2 * p02;
+    Fxy += B0 * q00 + B1 * q01 + B2 * q02;
+  }
+  {
+    const A0 = D(oC) * a00 + D(oC + 1) * a01 + D(oC + 3) * a02 + D(oD) * a10 + D(oD + 1) * a11 + D(oD + 3) * a12;
+    const A1 = D(oC + 2) * a00 + D(oC + 4) * a01 + D(oC + 6) * a02 + D(oD + 2) * a10 + D(oD + 4) * a11 + D(oD + 6) * a12;
+    const A2 = D(oC + 5) * a00 + D(oC + 7) * a01 + D(oC + 8) * a02 + D(oD + 5) * a10 + D(oD + 7) * a11 + D(oD + 8) * a12;
+    const B0 = D(oC) * b00d + D(oC + 1) * b01d + D(oC + 3) * b02d + D(oD) * b10d + D(oD + 1) * b11d + D(oD + 3) * b12d;
+    const B1 = D(oC + 2) * b00d + D(oC + 4) * b01d + D(oC + 6) * b02d + D(oD + 2) * b10d + D(oD + 4) * b11d + D(oD + 6) * b12d;
+    const B2 = D(oC + 5) * b00d + D(oC + 7) * b01d + D(oC + 8) * b02d + D(oD + 5) * b10d + D(oD + 7) * b11d + D(oD + 8) * b12d;
+    F += A0 * p10 + A1 * p11 + A2 * p12;
+    Fy += A0 * q10 + A1 * q11 + A2 * q12;
+    Fyy += A0 * r10 + A1 * r11 + A2 * r12;
+    Fx += B0 * p10 + B1 * p11 + B2 * p12;
+    Fxy += B0 * q10 + B1 * q11 + B2 * q12;
+  }
+  const Hu = Fx * invHu, Hv = Fy * invHv;
+  const Huv = Fxy * invHu * invHv, Hvv = Fyy * invHv * invHv;
+  F = T * F;
+  let Fu = T * Hu;
+  let Fv = F + T * Hv;
+  let Fuv = T * (Hu + Huv);
+  let Fvv = Fv + T * (Hv + Hvv);
+  {
+    const c0 = tCold + (<usize>(3 * i) << 3);
+    F += load<f64>(c0) * a00 + load<f64>(c0, 8) * a01 + load<f64>(c0, 16) * a02 + load<f64>(c0, 24) * a10 + load<f64>(c0, 32) * a11 + load<f64>(c0, 40) * a12;
+    Fu += (load<f64>(c0) * b00d + load<f64>(c0, 8) * b01d + load<f64>(c0, 16) * b02d + load<f64>(c0, 24) * b10d + load<f64>(c0, 32) * b11d + load<f64>(c0, 40) * b12d) * invHu;
+  }
+  if (kernelPairParts(d, T, u, v)) {
+    F += kp5; Fu += kp6; Fv += kp7;
+    Fuv += kp9; Fvv += kp10;
+  }
+  const invT = 1 / T;
+  const P = d * Fu;
+  const eps = F - Fv;
+  const sig = -Fv * invT;
+  pP = P;
+  pPT = d * Fuv * invT;
+  pU = d * eps;
+  pUD = eps + Fu - Fuv;
+  pUT = d * (Fv - Fvv) * invT;
+  pS = d * sig;
+  pSD = sig - Fuv * invT;
+  pST = d * (Fv - Fvv) * invT * invT;
+
+  const e0 = 2 * x3 - 3 * x2 + 1, e1 = x3 - 2 * x2 + x, e2 = 1 - e0, e3 = -(m3 - 2 * m2 + mx);
+  const e0d = 6 * x2 - 6 * x, e1d = 3 * x2 - 4 * x + 1, e2d = -e0d, e3d = 3 * m2 - 4 * mx + 1;
+  const f0 = 2 * y3 - 3 * y2 + 1, f1 = (y3 - 2 * y2 + y) * hv, f2 = 1 - f0, f3 = -(n3 - 2 * n2 + my) * hv;
+  const f0d = 6 * y2 - 6 * y, f1d = (3 * y2 - 4 * y + 1) * hv, f2d = -f0d, f3d = (3 * n2 - 4 * my + 1) * hv;
+  {
+    const q = 9;
+    const A = D(oA + q) * f0 + D(oA + q + 2) * f1, Ax = D(oA + q + 1) * f0 + D(oA + q + 3) * f1;
+    const B = D(oB + q) * f0 + D(oB + q + 2) * f1, Bx = D(oB + q + 1) * f0 + D(oB + q + 3) * f1;
+    const C = D(oC + q) * f2 + D(oC + q + 2) * f3, Cx = D(oC + q + 1) * f2 + D(oC + q + 3) * f3;
+    const Dd = D(oD + q) * f2 + D(oD + q + 2) * f3, Dx = D(oD + q + 1) * f2 + D(oD + q + 3) * f3;
+    pEta = (A + C) * e0 + (Ax + Cx) * e1 + (B + Dd) * e2 + (Bx + Dx) * e3 + kp0;
+  }
+  {
+    const q = 13;
+    const A = D(oA + q) * f0 + D(oA + q + 2) * f1, Ax = D(oA + q + 1) * f0 + D(oA + q + 3) * f1;
+    const B = D(oB + q) * f0 + D(oB + q + 2) * f1, Bx = D(oB + q + 1) * f0 + D(oB + q + 3) * f1;
+    const C = D(oC + q) * f2 + D(oC + q + 2) * f3, Cx = D(oC + q + 1) * f2 + D(oC + q + 3) * f3;
+    const Dd = D(oD + q) * f2 + D(oD + q + 2) * f3, Dx = D(oD + q + 1) * f2 + D(oD + q + 3) * f3;
+    const lnEtaU = (A + C) * e0 + (Ax + Cx) * e1 + (B + Dd) * e2 + (Bx + Dx) * e3 + kp1;
+    pPD = AVOGADRO * BOLTZMANN_K * T * Math.exp(lnEtaU);
+  }
+  if (kp11 < -30) {
+    pNp = 0;
+    pNe = d * AVOGADRO;
+    qP = 0; qPD = 0; qPT = 0;
+    qU = 0; qUD = 0; qUT = 0;
+    qS = 0; qSD = 0; qST = 0;
+  } else for (let s = 0; s < 4; s++) {
+    const q = 17 + 4 * s;
+    const A = D(oA + q) * f0 + D(oA + q + 2) * f1, Ax = D(oA + q + 1) * f0 + D(oA + q + 3) * f1;
+    const B = D(oB + q) * f0 + D(oB + q + 2) * f1, Bx = D(oB + q + 1) * f0 + D(oB + q + 3) * f1;
+    const C = D(oC + q) * f2 + D(oC + q + 2) * f3, Cx = D(oC + q + 1) * f2 + D(oC + q + 3) * f3;
+    const Dd = D(oD + q) * f2 + D(oD + q + 2) * f3, Dx = D(oD + q + 1) * f2 + D(oD + q + 3) * f3;
+    const Ay = D(oA + q) * f0d + D(oA + q + 2) * f1d, Axy = D(oA + q + 1) * f0d + D(oA + q + 3) * f1d;
+    const By = D(oB + q) * f0d + D(oB + q + 2) * f1d, Bxy = D(oB + q + 1) * f0d + D(oB + q + 3) * f1d;
+    const Cy = D(oC + q) * f2d + D(oC + q + 2) * f3d, Cxy = D(oC + q + 1) * f2d + D(oC + q + 3) * f3d;
+    const Dy = D(oD + q) * f2d + D(oD + q + 2) * f3d, Dxy = D(oD + q + 1) * f2d + D(oD + q + 3) * f3d;
+    const L = (A + C) * e0 + (Ax + Cx) * e1 + (B + Dd) * e2 + (Bx + Dx) * e3 + kp2;
+    const Lu = ((A + C) * e0d + (Ax + Cx) * e1d + (B + Dd) * e2d + (Bx + Dx) * e3d) * invHu + kp3;
+    const Lv = ((Ay + Cy) * e0 + (Axy + Cxy) * e1 + (By + Dy) * e2 + (Bxy + Dxy) * e3) * invHv + kp4;
+    const ex = L - LN_SHARE_FLOOR < 1e-6 ? SHARE_FLOOR : Math.exp(L);
+    let r = ex - SHARE_FLOOR;
+    if (r < 1e-290) r = 0;
+    const rd = r == 0 ? 0 : (ex * Lu) / d;
+    const rT = r == 0 ? 0 : ex * Lv * invT;
+    if (s == 0) {
+      const n0 = d * AVOGADRO;
+      pNp = r * n0;
+      pNe = r * n0 + n0;
+    } else if (s == 1) {
+      qP = r * P;
+      qPD = rd * P + r * pPD;
+      qPT = rT * P + r * pPT;
+    } else if (s == 2) {
+      qU = r * pU;
+      qUD = rd * pU + r * pUD;
+      qUT = rT * pU + r * pUT;
+    } else {
+      qS = r * pS;
+      qSD = rd * pS + r * pSD;
+      qST = rT * pS + r * pST;
+    }
+  }
+  return 0;
+}
+
+// Coulomb: coulomb.ts ocpLiquid (Potekhin & Chabrier 2000 liquid OCP) and its cancellation-free series
+const ASINH_SERIES: StaticArray<f64> = [0.66666666666666663, -0.20000000000000001, 0.10714285714285714, -0.069444444444444448, 0.049715909090909088, -0.037860576923076920, 0.030078125000000001, -0.024643841911764705, 0.020671643708881578, -0.017663864862351192, 0.015321482782778532, -0.013455047607421874, 0.011939278355351201, -0.010688346007774616];
+const ATAN_SERIES: StaticArray<f64> = [0.33333333333333331, -0.20000000000000001, 0.14285714285714285, -0.11111111111111110, 0.090909090909090912, -0.076923076923076927, 0.066666666666666666, -0.058823529411764705, 0.052631578947368418, -0.047619047619047616, 0.043478260869565216, -0.040000000000000001, 0.037037037037037035, -0.034482758620689655];
+const LOG1P_SERIES: StaticArray<f64> = [0.50000000000000000, -0.33333333333333331, 0.25000000000000000, -0.20000000000000001, 0.16666666666666666, -0.14285714285714285, 0.12500000000000000, -0.11111111111111110, 0.10000000000000001, -0.090909090909090912, 0.083333333333333329, -0.076923076923076927, 0.071428571428571425, -0.066666666666666666, 0.062500000000000000, -0.058823529411764705, 0.055555555555555552, -0.052631578947368418];
+function series(c: StaticArray<f64>, t0: f64, r: f64): f64 {
+  let term = t0;
+  let sum: f64 = 0;
+  for (let k = 0; k < c.length; k++) {
+    const t = unchecked(c[k]) * term;
+    sum += t;
+    if (Math.abs(t) < 1e-17 * Math.abs(sum)) break;
+    term *= r;
+  }
+  return sum;
+}
+function sqrtAsinhDifference(x: f64): f64 {
+  if (x < 0.2) return series(ASINH_SERIES, x * x * x, x * x);
+  return x * Math.sqrt(1 + x * x) - Math.asinh(x);
+}
+function minusArctan(y: f64): f64 {
+  if (y < 0.2) return series(ATAN_SERIES, y * y * y, y * y);
+  return y - Math.atan(y);
+}
+function minusLog1p(q: f64): f64 {
+  if (q < 0.1) return series(LOG1P_SERIES, q * q, q);
+  return q - Math.log1p(q);
+}
+let ocpU: f64 = 0, ocpC: f64 = 0, ocpS: f64 = 0;
+function ocpLiquid(G: f64): void {
+  const A1 = OCP_A1, A2 = OCP_A2, A3 = OCP_A3, B1 = OCP_B1, B2 = OCP_B2, B3 = OCP_B3, B4 = OCP_B4;
+  const sG = Math.sqrt(G);
+  const G32 = G * sG;
+  const G2 = G * G;
+  const sA = Math.sqrt(A2 + G);
+  const iA = 1 / sA, i1 = 1 / (1 + G), i2 = 1 / (B2 + G), i4 = 1 / (B4 + G2);
+  const u = G32 * (A1 * iA + A3 * i1) + B1 * G2 * i2 + B3 * G2 * i4;
+  const c =
+    -0.5 * A1 * A2 * G32 * iA * iA * iA +
+    0.5 * A3 * G32 * (G - 1) * i1 * i1 -
+    B1 * B2 * G2 * i2 * i2 +
+    B3 * G2 * (G2 - B4) * i4 * i4;
+  const x = sG * INV_SQRT_A2;
+  const q = G * INV_B2;
+  const lnB4 = Math.log1p(G2 * INV_B4);
+  let s: f64;
+  if (G > 1) {
+    s =
+      A1 * A2 * (Math.log(sG + sA) - HALF_LN_A2 - sG * iA) +
+      A3 * (2 * Math.atan(sG) - sG * (G + 2) * i1) +
+      B1 * B2 * (Math.log1p(q) - G * i2) +
+      B3 * G2 * i4 -
+      0.5 * B3 * lnB4;
+  } else {
+    const f = A1 * A2 * sqrtAsinhDifference(x) + 2 * A3 * minusArctan(sG) + B1 * B2 * minusLog1p(q) + 0.5 * B3 * lnB4;
+    s = u - f;
+  }
+  ocpU = u; ocpC = c; ocpS = s;
+}
+
+// Output: column-major blocks of n f64 in the order of OUTPUT_COLUMNS in eos/wasm/table-batch.ts:
+// totals 0..12 (P e s ∂P/∂ρ ∂P/∂T ∂e/∂ρ ∂e/∂T ∂s/∂ρ ∂s/∂T ∂P/∂Abar ∂P/∂Zbar ∂e/∂Abar ∂e/∂Zbar),
+// derived 13..25 (cv cp Γ1 Γ3 χρ χT ∇ad cs η n₋ n₊ Γ P_rad/P), and with the breakdown 26..70 the five
+// components (electrons, positrons, ions, photons, Coulomb) × (P e s ∂P/∂ρ ∂P/∂T ∂e/∂ρ ∂e/∂T ∂s/∂ρ ∂s/∂T).
+// warn: the WARNING bits of state.ts per point (u8); status: 0 computed, 1 density or temperature
+// outside the domain, 2 outside the table (the caller writes the statuses and messages).
+// @ts-ignore: decorator
+@inline function put(out: usize, n: i32, col: i32, i: i32, v: f64): void { store<f64>(out + ((<usize>col * <usize>n + <usize>i) << 3), v); }
+
+/**
+ * Evaluates n points. inp: columns ρ, T, Abar, Zbar, Z_max (5 blocks of n f64). flags: components
+ * included (1 electrons, 2 positrons, 4 ions, 8 photons, 16 Coulomb), 32 relativistic sound speed,
+ * 64 breakdown. species > 0: a nuclide mixture for the Coulomb term, z53 the species' Z^{5/3}
+ * (species f64) and y the abundances Y_j = X_j/A_j (n × species f64, row-major), as coulomb.ts.
+ */
+export function evaluateBatch(n: i32, inp: usize, out: usize, warn: usize, status: usize, flags: i32, species: i32, z53: usize, y: usize): void {
+  const incE = (flags & 1) != 0, incP = (flags & 2) != 0, incI = (flags & 4) != 0, incG = (flags & 8) != 0, incC = (flags & 16) != 0;
+  const relativistic = (flags & 32) != 0, breakdown = (flags & 64) != 0;
+  const nn = <usize>n << 3;
+  for (let i = 0; i < n; i++) {
+    const ii = <usize>i << 3;
+    const rho = load<f64>(inp + ii);
+    const T = load<f64>(inp + nn + ii);
+    const abar = load<f64>(inp + 2 * nn + ii);
+    const zbar = load<f64>(inp + 3 * nn + ii);
+    const zmax = load<f64>(inp + 4 * nn + ii);
+    if (!(rho >= DENSITY_MIN && rho <= DENSITY_MAX) || !(T >= TEMPERATURE_MIN && T <= TEMPERATURE_MAX)) {
+      store<u8>(status + i, 1);
+      continue;
+    }
+    const ye = zbar / abar;
+    const d = (rho * zbar) / abar;
+    if (tablePairGas(d, T) != 0) {
+      store<u8>(status + i, 2);
+      continue;
+    }
+    store<u8>(status + i, 0);
+    const dDdAbar = -(rho * ye) / abar;
+    const dDdZbar = rho / abar;
+    const tP = pP, tPr = ye * pPD, tPT = pPT, tPA = pPD * dDdAbar, tPZ = pPD * dDdZbar;
+    const te = pU / rho;
+    const tEr = (ye * pUD - te) / rho, tET = pUT / rho, tEA = (pUD * dDdAbar) / rho, tEZ = (pUD * dDdZbar) / rho;
+    const ts = pS / rho;
+    const tSr = (ye * pSD - ts) / rho, tST = pST / rho;
+    const xP = qP, xPr = ye * qPD, xPT = qPT, xPA = qPD * dDdAbar, xPZ = qPD * dDdZbar;
+    const xe = qU / rho;
+    const xEr = (ye * qUD - xe) / rho, xET = qUT / rho, xEA = (qUD * dDdAbar) / rho, xEZ = (qUD * dDdZbar) / rho;
+    const xs = qS / rho;
+    const xSr = (ye * qSD - xs) / rho, xST = qST / rho;
+    const lP = tP - xP, lPr = tPr - xPr, lPT = tPT - xPT, lPA = tPA - xPA, lPZ = tPZ - xPZ;
+    const le = te - xe, lEr = tEr - xEr, lET = tET - xET, lEA = tEA - xEA, lEZ = tEZ - xEZ;
+    const ls = ts - xs, lSr = tSr - xSr, lST = tST - xST;
+    const c = R_ION / abar;
+    const ionP = rho * c * T, ionPr = c * T, ionPT = rho * c, ionPA = -ionP / abar;
+    const ionE = 1.5 * c * T, ionET = 1.5 * c, ionEA = -ionE / abar;
+    const lnRatio = 1.5 * Math.log(abar * T) + LN_ION_QC - Math.log((rho * AVOGADRO) / abar);
+    const ionS = c * (lnRatio + 2.5), ionSr = -c / rho, ionST = (1.5 * c) / T;
+    const aT3 = RADIATION_A * T * T * T;
+    const aT4 = aT3 * T;
+    const phP = aT4 / 3, phPT = (4 * aT3) / 3, phE = aT4 / rho, phEr = -aT4 / (rho * rho), phET = (4 * aT3) / rho;
+    const phS = (4 * aT3) / (3 * rho), phSr = -phS / rho, phST = (4 * RADIATION_A * T * T) / rho;
+    // Coulomb (coulomb.ts coulombCorrection): one species of charge Zbar, or the linear mixing rule
+    const ge = (E2_OVER_K / T) * Math.cbrt(FOUR_PI_OVER_3_NA * rho * (zbar / abar));
+    let U: f64 = 0, Cc: f64 = 0, Sc: f64 = 0, zExp: f64, G: f64;
+    if (species == 0) {
+      G = zbar * Math.cbrt(zbar * zbar) * ge;
+      ocpLiquid(G);
+      const Y = 1 / abar;
+      U = Y * ocpU; Cc = Y * ocpC; Sc = Y * ocpS;
+      zExp = 2;
+    } else {
+      const base = y + ((<usize>i * <usize>species) << 3);
+      let z53avg: f64 = 0;
+      for (let j = 0; j < species; j++) {
+        const Y = load<f64>(base + (<usize>j << 3));
+        const z = load<f64>(z53 + (<usize>j << 3));
+        if (Y == 0 || z == 0) continue;
+        ocpLiquid(z * ge);
+        U += Y * ocpU; Cc += Y * ocpC; Sc += Y * ocpS;
+        z53avg += Y * z;
+      }
+      zExp = 1.0 / 3;
+      G = z53avg * abar * ge;
+    }
+    const RT = R_ION * T;
+    const U1 = U - Cc;
+    const third: f64 = 1.0 / 3;
+    const i3rho = third / rho;
+    const kP = rho * RT * U * third;
+    const kPr = RT * (4 * U - Cc) * (third * third);
+    const kPT = rho * R_ION * Cc * third;
+    const kE = RT * U;
+    const kEr = RT * U1 * i3rho;
+    const kET = R_ION * Cc;
+    const kS = R_ION * Sc;
+    const kSr = -R_ION * Cc * i3rho;
+    const kST = (R_ION * Cc) / T;
+    const dUdA = -(U + U1 * third) / abar;
+    const dUdZ = (zExp * U1) / zbar;
+    const kPA = rho * RT * dUdA * third;
+    const kPZ = rho * RT * dUdZ * third;
+    const kEA = RT * dUdA;
+    const kEZ = RT * dUdZ;
+    let P: f64 = 0, Pr: f64 = 0, PT: f64 = 0, PA: f64 = 0, PZ: f64 = 0, e: f64 = 0, Er: f64 = 0, ET: f64 = 0, EA: f64 = 0, EZ: f64 = 0, s: f64 = 0, Sr: f64 = 0, ST: f64 = 0;
+    if (incE) { P += lP; Pr += lPr; PT += lPT; PA += lPA; PZ += lPZ; e += le; Er += lEr; ET += lET; EA += lEA; EZ += lEZ; s += ls; Sr += lSr; ST += lST; }
+    if (incP) { P += xP; Pr += xPr; PT += xPT; PA += xPA; PZ += xPZ; e += xe; Er += xEr; ET += xET; EA += xEA; EZ += xEZ; s += xs; Sr += xSr; ST += xST; }
+    if (incI) { P += ionP; Pr += ionPr; PT += ionPT; PA += ionPA; e += ionE; ET += ionET; EA += ionEA; s += ionS; Sr += ionSr; ST += ionST; }
+    if (incG) { P += phP; PT += phPT; e += phE; Er += phEr; ET += phET; s += phS; Sr += phSr; ST += phST; }
+    if (incC) {
+      P += kP; Pr += kPr; PT += kPT; PA += kPA; PZ += kPZ;
+      e += kE; Er += kEr; ET += kET; EA += kEA; EZ += kEZ;
+      s += kS; Sr += kSr; ST += kST;
+    }
+    put(out, n, 0, i, P); put(out, n, 1, i, e); put(out, n, 2, i, s); put(out, n, 3, i, Pr); put(out, n, 4, i, PT);
+    put(out, n, 5, i, Er); put(out, n, 6, i, ET); put(out, n, 7, i, Sr); put(out, n, 8, i, ST);
+    put(out, n, 9, i, PA); put(out, n, 10, i, PZ); put(out, n, 11, i, EA); put(out, n, 12, i, EZ);
+    const cv = ET;
+    const g3m1 = PT / (rho * cv);
+    const g1P = rho * Pr + (T * PT * PT) / (rho * cv);
+    const g1 = g1P / P;
+    put(out, n, 13, i, cv);
+    put(out, n, 14, i, (cv * g1P) / (rho * Pr));
+    put(out, n, 15, i, g1);
+    put(out, n, 16, i, 1 + g3m1);
+    put(out, n, 17, i, (rho * Pr) / P);
+    put(out, n, 18, i, (T * PT) / P);
+    put(out, n, 19, i, g3m1 / g1);
+    let cs2 = g1P / rho;
+    if (relativistic) cs2 = cs2 / (1 + (e + P / rho) / C2);
+    put(out, n, 20, i, cs2 > 0 ? Math.sqrt(cs2) : 0);
+    put(out, n, 21, i, pEta);
+    put(out, n, 22, i, pNe);
+    put(out, n, 23, i, pNp);
+    put(out, n, 24, i, G);
+    put(out, n, 25, i, incG ? phP / P : 0);
+    if (breakdown) {
+      let b = 26;
+      if (incE) { put(out, n, b, i, lP); put(out, n, b + 1, i, le); put(out, n, b + 2, i, ls); put(out, n, b + 3, i, lPr); put(out, n, b + 4, i, lPT); put(out, n, b + 5, i, lEr); put(out, n, b + 6, i, lET); put(out, n, b + 7, i, lSr); put(out, n, b + 8, i, lST); }
+      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
+      b = 35;
+      if (incP) { put(out, n, b, i, xP); put(out, n, b + 1, i, xe); put(out, n, b + 2, i, xs); put(out, n, b + 3, i, xPr); put(out, n, b + 4, i, xPT); put(out, n, b + 5, i, xEr); put(out, n, b + 6, i, xET); put(out, n, b + 7, i, xSr); put(out, n, b + 8, i, xST); }
+      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
+      b = 44;
+      if (incI) { put(out, n, b, i, ionP); put(out, n, b + 1, i, ionE); put(out, n, b + 2, i, ionS); put(out, n, b + 3, i, ionPr); put(out, n, b + 4, i, ionPT); put(out, n, b + 5, i, 0); put(out, n, b + 6, i, ionET); put(out, n, b + 7, i, ionSr); put(out, n, b + 8, i, ionST); }
+      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
+      b = 53;
+      if (incG) { put(out, n, b, i, phP); put(out, n, b + 1, i, phE); put(out, n, b + 2, i, phS); put(out, n, b + 3, i, 0); put(out, n, b + 4, i, phPT); put(out, n, b + 5, i, phEr); put(out, n, b + 6, i, phET); put(out, n, b + 7, i, phSr); put(out, n, b + 8, i, phST); }
+      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
+      b = 62;
+      if (incC) { put(out, n, b, i, kP); put(out, n, b + 1, i, kE); put(out, n, b + 2, i, kS); put(out, n, b + 3, i, kPr); put(out, n, b + 4, i, kPT); put(out, n, b + 5, i, kEr); put(out, n, b + 6, i, kET); put(out, n, b + 7, i, kSr); put(out, n, b + 8, i, kST); }
+      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
+    }
+    // warnings
+    let w: i32 = 0;
+    // state.ts partialIonizationLikely, NEUTRON_DRIP_DENSITY, GAMMA_MELT and the stability tests
+    if (BOLTZMANN_K * T < (zmax * zmax * RYDBERG) / SAHA_FACTOR) {
+      const ionSphere = Math.cbrt((3 * abar) / (4 * Math.PI * rho * AVOGADRO));
+      if (ionSphere > BOHR_RADIUS / zmax) w |= 1;
+    }
+    if (rho > NEUTRON_DRIP_DENSITY) w |= 2;
+    if (G > GAMMA_MELT) w |= 4;
+    if (!(P > 0)) w |= 8;
+    const cs2w = Pr + (T * PT * PT) / (rho * rho * ET);
+    if (!(Pr > 0) || !(cs2w > 0)) w |= 16;
+    if (incI && lnRatio <= 0) w |= 32;
+    store<u8>(warn + i, <u8>w);
+  }
+}
