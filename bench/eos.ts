@@ -3,7 +3,8 @@
  * inversions, on a fixed seeded sample of states spanning the whole domain (log-uniform ρ in
  * [1e-12, 1e15] g/cm³ and T in [1e3, 1e13] K, random (Abar, Zbar)). Prints points per second; no
  * assertions. Then the table method with the default-grid table (FW_DATA_DIR or .data/; built there
- * first when missing): kernel, evaluate with a new and with a reused result, inversions.
+ * first when missing): the JavaScript kernel and per-point path, evaluate (its loop runs in WebAssembly,
+ * eos/wasm/) with a new and with a reused result, inversions.
  * Run: npm run bench   (node --import tsx bench/eos.ts [points])   (--table-only: skip the exact part)
  */
 import { evaluate, type EvaluateOptions } from '../eos/state.js';
@@ -128,7 +129,16 @@ for (const method of tableOnly ? [] : METHODS) {
   };
   const inp = { density: td, temperature: tt, abar: ta, zbar: tz };
   const pair = createPairGasState();
-  show('table kernel alone (tablePairGas)', runs(N, () => { for (let i = 0; i < N; i++) tablePairGas(table, (td[i] * tz[i]) / ta[i], tt[i], pair); }));
+  show('JS kernel alone (tablePairGas)', runs(N, () => { for (let i = 0; i < N; i++) tablePairGas(table, (td[i] * tz[i]) / ta[i], tt[i], pair); }));
+  {
+    // the JavaScript per-point path (what invert uses): PointKernel + storePoint into one result
+    const { PointKernel, includeFlags, allocateResult, storePoint } = await import('../eos/state.js');
+    const kernel = new PointKernel(includeFlags(undefined), table);
+    const out = allocateResult(N, ['electrons', 'positrons', 'ions', 'photons', 'coulomb'], false, false);
+    show('JS per-point path (PointKernel + storePoint)', runs(N, () => {
+      for (let i = 0; i < N; i++) if (kernel.compute(td[i], tt[i], ta[i], tz[i], null, i) === 0) storePoint(out, i, kernel, tz[i], false);
+    }));
+  }
   const fresh = show('evaluate (table), new result each call', runs(N, () => void evaluate(inp, { method: 'table', table })));
   const reuse = evaluate(inp, { method: 'table', table });
   const into = show('evaluate (table), options.into (reused)', runs(N, () => void evaluate(inp, { method: 'table', table, into: reuse })));
