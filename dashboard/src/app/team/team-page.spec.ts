@@ -100,6 +100,10 @@ describe('TeamPage', () => {
     request.flush({ ...invitations[0], id: 'inv-2', email: 'sam@tests.example', role: 'developer' });
     await vi.waitFor(() => expect(page.textContent).toContain('sam@tests.example'));
     await fixture.whenStable();
+    // the field is emptied for the next address without being shown as an error (the form was submitted)
+    expect(email.value).toBe('');
+    expect(page.querySelector('.invite-email mat-error')).toBeNull();
+    expect(page.querySelector('.invite-email')?.classList.contains('mat-form-field-invalid')).toBe(false);
   });
 
   it('shows the last-owner rule from the server when a role change is refused', async () => {

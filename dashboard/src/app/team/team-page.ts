@@ -1,6 +1,6 @@
 import { DatePipe } from '@angular/common';
-import { ChangeDetectionStrategy, Component, PendingTasks, computed, effect, inject, signal, untracked } from '@angular/core';
-import { FormBuilder, ReactiveFormsModule } from '@angular/forms';
+import { ChangeDetectionStrategy, Component, PendingTasks, computed, effect, inject, signal, untracked, viewChild } from '@angular/core';
+import { FormBuilder, FormGroupDirective, ReactiveFormsModule } from '@angular/forms';
 import { MatButton, MatIconButton } from '@angular/material/button';
 import { MatDialog } from '@angular/material/dialog';
 import { MatError, MatFormField, MatLabel } from '@angular/material/form-field';
@@ -129,6 +129,8 @@ export class TeamPage {
     email: ['', emailValidators],
     role: ['developer' as OrganisationRole],
   });
+  /** The invitation form's directive: its submitted state must be cleared with the sent address. */
+  private readonly inviteFormDirective = viewChild<FormGroupDirective>('inviteFormDirective');
 
   protected readonly auditFilter = this.fb.group({
     action: [''],
@@ -221,7 +223,10 @@ export class TeamPage {
     try {
       const invitation = await firstValueFrom(this.teamApi.invite(organisationId, email.trim(), role));
       this.invitations.update((list) => [invitation, ...list.filter((i) => i.email.toLowerCase() !== invitation.email.toLowerCase())]);
-      this.inviteForm.controls.email.reset('');
+      // clear the address and the form's submitted state, so the empty field is not shown as an error
+      const directive = this.inviteFormDirective();
+      if (directive) directive.resetForm({ email: '', role });
+      else this.inviteForm.controls.email.reset('');
       this.snackBar.open(`Invitation sent to ${invitation.email}.`, 'OK', { duration: 5000 });
     } catch (error) {
       applyServerErrors(this.inviteForm, fieldErrors(error));
