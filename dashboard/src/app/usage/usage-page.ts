@@ -18,7 +18,7 @@ import { problemMessage } from '../core/problem';
 import { provideLazyCharts } from '../shared/chart-provider';
 import { UsageApi, saveFile, type UsagePageData, type UsageRange } from './usage-api';
 import { latencyChart, pointsChart, requestsChart } from './usage-charts';
-import { addDays, compact, dayAxis, dayOf, quotaLine, stackByDay, sum, type GroupBy } from './usage-series';
+import { addDays, compact, dayAxis, dayOf, inOrderOf, quotaLine, stackByDay, sum, type GroupBy } from './usage-series';
 
 export const ENDPOINT_LABELS: Record<string, string> = {
   '/v1/eos/evaluate': 'Evaluate (REST)',
@@ -109,7 +109,8 @@ export class UsagePage {
   });
   protected readonly keyNames = computed(() => new Map((this.data()?.keys ?? []).map((k) => [k.id, k.name])));
   protected readonly pointsStack = computed(() => stackByDay(this.data()?.grouped ?? [], this.days(), 'points'));
-  protected readonly requestsStack = computed(() => stackByDay(this.data()?.grouped ?? [], this.days(), 'requests'));
+  // in the points chart's order, so each key or endpoint has the same colour in both charts
+  protected readonly requestsStack = computed(() => inOrderOf(stackByDay(this.data()?.grouped ?? [], this.days(), 'requests'), this.pointsStack()));
   protected readonly errorsPerDay = computed(() => stackByDay(this.data()?.total ?? [], this.days(), 'errors').totals);
   protected readonly totals = computed(() => {
     const buckets = this.data()?.total ?? [];

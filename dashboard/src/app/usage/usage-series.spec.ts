@@ -7,6 +7,7 @@ import {
   cumulativePerPeriod,
   dayAxis,
   failingKeys,
+  inOrderOf,
   quotaLine,
   stackByDay,
   type UsageBucket,
@@ -96,6 +97,27 @@ describe('usage series', () => {
     expect(compact(12_345)).toBe('12.3 k');
     expect(compact(500_000_000)).toBe('500 M');
     expect(compact(20_000_000_000)).toBe('20 G');
+  });
+});
+
+describe('inOrderOf', () => {
+  it('puts the groups in the reference order, so a group keeps its colour from chart to chart', () => {
+    const days = dayAxis('2026-11-30', '2026-12-01');
+    // k1 evaluates big batches in few requests, k2 small ones in many: the two metrics rank them oppositely
+    const buckets: UsageBucket[] = [
+      { start: '2026-11-30T00:00:00.000Z', group: 'k1', requests: 2, points: 900, errors: 0 },
+      { start: '2026-11-30T00:00:00.000Z', group: 'k2', requests: 50, points: 100, errors: 3 },
+    ];
+    const points = stackByDay(buckets, days, 'points');
+    const requests = stackByDay(buckets, days, 'requests');
+    expect([...points.groups.keys()]).toEqual(['k1', 'k2']);
+    expect([...requests.groups.keys()]).toEqual(['k2', 'k1']);
+    const aligned = inOrderOf(requests, points);
+    expect([...aligned.groups.entries()]).toEqual([['k1', [2]], ['k2', [50]]]);
+    expect(aligned.totals).toEqual([52]);
+    // a group missing from the reference comes last
+    const onlyK2 = stackByDay([buckets[1]!], days, 'points');
+    expect([...inOrderOf(requests, onlyK2).groups.keys()]).toEqual(['k2', 'k1']);
   });
 });
 

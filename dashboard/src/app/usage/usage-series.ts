@@ -77,6 +77,21 @@ export function stackByDay(buckets: readonly UsageBucket[], days: readonly strin
   return { groups: ordered, totals };
 }
 
+/**
+ * The same stack with its groups in the order of `reference` (groups the reference lacks come last,
+ * in their own order). Charts colour groups by position, so the requests chart takes the order of
+ * the points chart and a key keeps its colour from one chart to the next.
+ */
+export function inOrderOf(stack: Stack, reference: Stack): Stack {
+  const groups = new Map<string, number[]>();
+  for (const group of reference.groups.keys()) {
+    const row = stack.groups.get(group);
+    if (row) groups.set(group, row);
+  }
+  for (const [group, row] of stack.groups) if (!groups.has(group)) groups.set(group, row);
+  return { groups, totals: stack.totals };
+}
+
 export function sum(values: readonly number[]): number {
   return values.reduce((a, b) => a + b, 0);
 }
