@@ -6,7 +6,7 @@ import { MATERIAL_ANIMATIONS } from '@angular/material/core';
 import { Router, provideRouter } from '@angular/router';
 
 import { AuthSession } from '../core/auth-session';
-import { fakeSession } from '../shared/testing';
+import { TEST_USER, fakeSession } from '../shared/testing';
 import { ResetPasswordPage } from './reset-password-page';
 import { SignInPage } from './sign-in-page';
 import { SignUpPage } from './sign-up-page';
@@ -140,6 +140,22 @@ describe('sign-in family forms', () => {
       type(root, 'input[formcontrolname="password"]', 'degenerate electrons');
       submit(root);
       await vi.waitFor(() => expect(navigate).toHaveBeenCalledWith(['/new-organisation']));
+    });
+
+    it('takes a platform operator without an organisation to the Operator page, not the create-organisation step', async () => {
+      session.fake.organisations.set([]);
+      (session.fake as unknown as { signIn: () => Promise<void> }).signIn = vi.fn().mockImplementation(async () =>
+        session.fake.user.set({ ...TEST_USER, platformRole: 'operator' }),
+      );
+      const router = TestBed.inject(Router);
+      const navigate = vi.spyOn(router, 'navigate').mockResolvedValue(true);
+      const navigateByUrl = vi.spyOn(router, 'navigateByUrl').mockResolvedValue(true);
+      const { root } = await render(SignInPage);
+      type(root, 'input[formcontrolname="email"]', 'operator@platform.example');
+      type(root, 'input[formcontrolname="password"]', 'operator password');
+      submit(root);
+      await vi.waitFor(() => expect(navigateByUrl).toHaveBeenCalledWith('/operator'));
+      expect(navigate).not.toHaveBeenCalledWith(['/new-organisation']);
     });
   });
 

@@ -87,7 +87,10 @@ export class SignInPage {
       const { email, password } = this.form.getRawValue();
       await this.session.signIn(email.trim(), password);
       const returnUrl = safeReturnUrl(this.route.snapshot.queryParamMap.get('returnUrl'));
-      if (this.session.organisations().length === 0 && !returnUrl?.startsWith('/join')) {
+      if (this.session.organisations().length === 0 && this.session.isOperator()) {
+        // a platform operator needs no organisation of their own: on to the Operator page (in the shell)
+        await this.router.navigateByUrl(returnUrl ?? '/operator');
+      } else if (this.session.organisations().length === 0 && !returnUrl?.startsWith('/join')) {
         await this.router.navigate(['/new-organisation']);
       } else {
         await this.router.navigateByUrl(returnUrl ?? '/overview');
