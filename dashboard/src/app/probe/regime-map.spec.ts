@@ -1,4 +1,4 @@
-import { MAP_RHO, MAP_T, classIndex, classLabel, mapGrid, regimeChartOptions, shapeRegime } from './regime-map';
+import { MAP_RHO, MAP_T, NEUTRON_DRIP_LOG_RHO, classIndex, classLabel, mapGrid, regimeChartOptions, shapeRegime } from './regime-map';
 import type { RegimeResponse } from './eos-types';
 
 function response(n: number, fill: (k: number) => Partial<Record<string, unknown>>): RegimeResponse {
@@ -74,9 +74,12 @@ describe('regime map data', () => {
     expect(data.classesSeen).toEqual([0, 2, 6, 8]);
 
     const options = regimeChartOptions(data, [[6, 8]]) as { series: { type: string; data: unknown[] }[] };
-    expect(options.series.map((s) => s.type)).toEqual(['custom', 'line', 'line', 'line', 'scatter']);
+    expect(options.series.map((s) => s.type)).toEqual(['custom', 'line', 'line', 'line', 'line', 'scatter']);
     expect(options.series[0].data.length).toBe(8);
-    expect(options.series[4].data).toEqual([[6, 8]]);
+    // the neutron drip (~4e11 g/cm³) as a vertical line over the whole temperature range
+    expect(options.series[4].data).toEqual([[NEUTRON_DRIP_LOG_RHO, MAP_T.min], [NEUTRON_DRIP_LOG_RHO, MAP_T.max]]);
+    expect(NEUTRON_DRIP_LOG_RHO).toBeCloseTo(11.602, 3);
+    expect(options.series[5].data).toEqual([[6, 8]]);
   });
 
   it('leaves failed points unclassified', () => {

@@ -16,6 +16,12 @@ import type { ComponentName, Composition, Method, RegimeResponse } from './eos-t
 export const MAP_RHO = { min: -8, max: 12, steps: 48 };
 export const MAP_T = { min: 3, max: 11, steps: 40 };
 
+/**
+ * log10 of the neutron-drip density (about 4×10¹¹ g/cm³): the model has no nuclear physics beyond
+ * it (free neutrons are not included), and the API warns there; the map marks it.
+ */
+export const NEUTRON_DRIP_LOG_RHO = Math.log10(4e11);
+
 /** Positrons per electron above which a cell counts as pair-dominated. */
 export const PAIR_DOMINATED_RATIO = 0.5;
 /** Radiation share of the pressure above which a cell counts as radiation-dominated. */
@@ -150,7 +156,7 @@ export function regimeChartOptions(data: RegimeMapData, points: [number, number]
   return {
     animation: false,
     grid: { left: 64, right: 24, top: 16, bottom: 88 },
-    legend: { bottom: 0, itemWidth: 24, data: ['Pair-dominated above', 'Radiation-dominated above', 'Crystallized below (Γ = 175)', 'Requested point'] },
+    legend: { bottom: 0, itemWidth: 24, data: ['Pair-dominated above', 'Radiation-dominated above', 'Crystallized below (Γ = 175)', 'Neutron drip: no nuclear physics beyond', 'Requested point'] },
     tooltip: {
       trigger: 'item',
       formatter: (p: unknown) => {
@@ -195,6 +201,7 @@ export function regimeChartOptions(data: RegimeMapData, points: [number, number]
       line('Pair-dominated above', data.pairLine, '#0b6e4f', 'dashed'),
       line('Radiation-dominated above', data.radiationLine, '#23283d', 'solid'),
       line('Crystallized below (Γ = 175)', data.crystalLine, '#1c6fb8', 'dotted'),
+      line('Neutron drip: no nuclear physics beyond', [[NEUTRON_DRIP_LOG_RHO, MAP_T.min], [NEUTRON_DRIP_LOG_RHO, MAP_T.max]], '#b3261e', 'dashed'),
       {
         type: 'scatter',
         name: 'Requested point',
