@@ -1,5 +1,6 @@
 import { Clipboard } from '@angular/cdk/clipboard';
-import { ChangeDetectionStrategy, Component, inject, signal } from '@angular/core';
+import { formatDate } from '@angular/common';
+import { ChangeDetectionStrategy, Component, LOCALE_ID, inject, signal } from '@angular/core';
 import { MatButton } from '@angular/material/button';
 import {
   MAT_DIALOG_DATA,
@@ -89,10 +90,13 @@ export interface KeySecretDialogData {
 export class KeySecretDialog {
   protected readonly data = inject<KeySecretDialogData>(MAT_DIALOG_DATA);
   private readonly clipboard = inject(Clipboard);
+  private readonly locale = inject(LOCALE_ID);
   protected readonly copied = signal(false);
 
+  /** As the Keys table writes times ("3 Dec 2026, 10:37"), not in the browser's own locale format. */
   protected until(): string {
-    return new Date(this.data.previousSecretValidUntil ?? '').toLocaleString();
+    const until = this.data.previousSecretValidUntil;
+    return until ? formatDate(until, 'd MMM y, HH:mm', this.locale) : '';
   }
 
   protected copy(): void {
