@@ -34,6 +34,7 @@ export class PostgresRateLimitStore implements Store {
   private retired: Array<[string, Window]> = [];
   private timer: NodeJS.Timeout | undefined;
   private syncing: Promise<void> | undefined;
+  private nextSync: Promise<void> | undefined;
   syncFailures = 0;
 
   constructor(private readonly db: Knex, prefix = 'rl:') {
@@ -79,9 +80,19 @@ export class PostgresRateLimitStore implements Store {
     await this.db('rate_limit_windows').where({ key: this.prefix + key }).delete();
   }
 
-  /** Adds this instance's new hits to the shared rows and learns the others' counts. */
+  /**
+   * Adds this instance's new hits to the shared rows and learns the others' counts. When a sync is
+   * already running (the timer's), it may have collected its windows before the caller's last use:
+   * the caller gets the next sync after it, one shared by every call made meanwhile.
+   */
   sync(): Promise<void> {
-    if (this.syncing) return this.syncing;
+    if (this.syncing) {
+      this.nextSync ??= this.syncing.catch(() => undefined).then(() => {
+        this.nextSync = undefined;
+        return this.sync();
+      });
+      return this.nextSync;
+    }
     this.syncing = this.doSync().finally(() => (this.syncing = undefined));
     return this.syncing;
   }
