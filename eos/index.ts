@@ -26,5 +26,10 @@ export {
 } from './free-energy-table.js';
 export * as constants from './constants.js';
 
-/** Version of the physics model; changes whenever a published number could change (1.1.0: table method η, ∂P/∂ρ, n₊ from Boltzmann-referenced remainders; denser pair-onset T band). */
-export const MODEL_VERSION = 'fermiwell-eos 1.1.0 (exact method; PC2000 liquid OCP; CODATA 2018)';
+/**
+ * Version of the physics model; changes whenever a published number could change (1.1.0: table
+ * method η, ∂P/∂ρ, n₊ from Boltzmann-referenced remainders; denser pair-onset T band. 1.2.0: the
+ * table method's loop runs in WebAssembly, whose maths library rounds differently in the last bit).
+ * Answers name the method in their own field.
+ */
+export const MODEL_VERSION = 'fermiwell-eos 1.2.0 (PC2000 liquid OCP; CODATA 2018)';
