@@ -47,13 +47,14 @@ interface Exports {
   heapBase(): number;
   setConstants(p: number): void;
   setTable(data: number, cold: number, axis: number, nD: number, nT: number, logDMin: number, ppdD: number): void;
-  evaluateBatch(n: number, inp: number, out: number, warn: number, status: number, flags: number, species: number, z53: number, y: number): void;
+  evaluateBatch(n: number, stride: number, inp: number, out: number, warn: number, status: number, flags: number, species: number, z53: number, y: number): void;
 }
 
 /** A batch's results, views into the module's memory (valid until the next run). */
 export interface TableBatchOutput {
-  /** COLUMN_COUNT blocks of n values: OUTPUT_COLUMNS, then the components' columns. */
+  /** COLUMN_COUNT blocks of `stride` values (the first n used): OUTPUT_COLUMNS, then the components' columns. */
   values: Float64Array;
+  stride: number;
   warnings: Uint8Array;
   /** 0 computed, 1 density or temperature outside the domain, 2 outside the table. */
   status: Uint8Array;
@@ -106,23 +107,27 @@ export class TableBatch {
     mixture: { count: number; z53: Float64Array; y: Float64Array } | null): TableBatchOutput {
     this.useTable(table);
     const m = mixture === null ? 0 : mixture.count;
-    const pIn = this.batchBase, pOut = align(pIn + 40 * n), pZ = align(pOut + 8 * COLUMN_COUNT * n), pY = align(pZ + 8 * m);
+    // columns n + 8 apart: a power-of-two spacing (n = 512 → 4 KB) would put every column of a
+    // point in the same L1 cache set (measured: twice the time per point with the breakdown's 71)
+    const stride = n + 8;
+    const pIn = this.batchBase, pOut = align(pIn + 40 * stride), pZ = align(pOut + 8 * COLUMN_COUNT * stride), pY = align(pZ + 8 * m);
     const pWarn = align(pY + 8 * m * n), pStatus = align(pWarn + n);
     this.reserve(pStatus + n);
     const buf = this.ex.memory.buffer;
-    const inp = new Float64Array(buf, pIn, 5 * n);
+    const inp = new Float64Array(buf, pIn, 5 * stride);
     for (let c = 0; c < 5; c++) {
       const col = columns[c];
-      if (n <= 16) for (let i = 0; i < n; i++) inp[c * n + i] = col[from + i];
-      else inp.set(col.subarray(from, from + n), c * n);
+      if (n <= 16) for (let i = 0; i < n; i++) inp[c * stride + i] = col[from + i];
+      else inp.set(col.subarray(from, from + n), c * stride);
     }
     if (mixture !== null) {
       new Float64Array(buf, pZ, m).set(mixture.z53);
       new Float64Array(buf, pY, m * n).set(mixture.y.subarray(from * m, (from + n) * m));
     }
-    this.ex.evaluateBatch(n, pIn, pOut, pWarn, pStatus, flags, m, pZ, pY);
+    this.ex.evaluateBatch(n, stride, pIn, pOut, pWarn, pStatus, flags, m, pZ, pY);
     return {
-      values: new Float64Array(buf, pOut, COLUMN_COUNT * n),
+      values: new Float64Array(buf, pOut, COLUMN_COUNT * stride),
+      stride,
       warnings: new Uint8Array(buf, pWarn, n),
       status: new Uint8Array(buf, pStatus, n),
     };

@@ -4,9 +4,10 @@
  * Timmes & Swesty 2000, with the analytic references of `kernelPairParts`), the ion (Sackur–Tetrode),
  * photon (Planck) and Coulomb (Potekhin & Chabrier 2000 liquid OCP, linear mixing) terms and the
  * derived quantities and warnings of state.ts — the same formulas in the same order as the
- * JavaScript per-point path (PointKernel + storePoint), which stays the reference: results agree to
- * rounding (this module's maths library differs from V8's in the last bit; tests bound the
- * difference). See eos/README.md "Table method" for the formulas and their sources.
+ * JavaScript per-point path (PointKernel + storePoint), which stays the reference, except that
+ * divisions by ρ, Abar and T are multiplications by their reciprocals and Γ takes one cube root:
+ * results agree to rounding (this module's maths library also differs from V8's in the last bit;
+ * tests bound the difference). See eos/README.md "Table method" for the formulas and their sources.
  * Memory: eos/wasm/table-batch.ts lays out everything above heapBase(); pointers are byte offsets.
  * Nothing here allocates.
  */
@@ -125,8 +126,39 @@ function kernelPairParts(d: f64, T: f64, u: f64, v: f64): bool {
   return true;
 }
 
-/** tablePairGas: 0 ok, 1 outside */
-function tablePairGas(d: f64, T: f64): i32 {
+// Points are taken in blocks: pass 1 locates every point's table cell (into a scratch slot) and
+// touches the cache lines of its four nodes in one tight loop of independent loads, so that on
+// random states their memory misses overlap instead of following one another; pass 2 interpolates.
+const BLOCK: i32 = 16;
+/** f64 per scratch slot: node offset (−1: no cell), i, x, y, u, v, 1/h_v, h_v. */
+const SLOT: i32 = 8;
+const scratch: usize = memory.data(BLOCK * SLOT * 8);
+/** Keeps the touching loads alive (never read for results). */
+let touchSink: i32 = 0;
+
+// @ts-ignore: decorator
+@inline function touchNodePair(p: usize): i32 {
+  // two adjacent nodes, 2 × 33 f64 = 528 bytes: one byte of each 64-byte line
+  return load<u8>(p) ^ load<u8>(p, 64) ^ load<u8>(p, 128) ^ load<u8>(p, 192) ^ load<u8>(p, 256) ^
+    load<u8>(p, 320) ^ load<u8>(p, 384) ^ load<u8>(p, 448) ^ load<u8>(p, 512) ^ load<u8>(p, 527);
+}
+
+/** Touches the cache lines of the cells in slots 0..m−1. */
+function touchBlock(m: i32): void {
+  let acc: i32 = 0;
+  const rowBytes = <usize>(nT * STRIDE) << 3;
+  for (let k = 0; k < m; k++) {
+    const oA = <i32>load<f64>(scratch + (<usize>(k * SLOT) << 3));
+    if (oA < 0) continue;
+    const pA = tData + (<usize>oA << 3);
+    acc ^= touchNodePair(pA) ^ touchNodePair(pA + rowBytes);
+  }
+  touchSink ^= acc;
+}
+
+/** The first part of free-energy-table.ts tablePairGas: the cell of (d, T) into scratch slot k; 0, or 1 outside the table. */
+function locate(d: f64, T: f64, k: i32): i32 {
+  const slot = scratch + (<usize>(k * SLOT) << 3);
   const u = Math.log(d);
   const v = Math.log(T);
   const invHu = gPpdD / Math.LN10;
@@ -143,15 +175,30 @@ function tablePairGas(d: f64, T: f64): i32 {
       fy = (v - ax2) * ax3; jOff = nA + nB;
     }
   }
-  if (!(fx >= -1e-9 && fx <= <f64>(nD - 1) + 1e-9 && fy + jOff >= -1e-9 && fy + jOff <= nT1 + 1e-9)) return 1;
+  if (!(fx >= -1e-9 && fx <= <f64>(nD - 1) + 1e-9 && fy + jOff >= -1e-9 && fy + jOff <= nT1 + 1e-9)) {
+    store<f64>(slot, -1);
+    return 1;
+  }
   let i = <i32>Math.floor(fx);
   let j = <i32>(Math.floor(fy) + jOff);
   if (i > nD - 2) i = nD - 2;
   if (j > nT - 2) j = nT - 2;
   if (i < 0) i = 0;
   if (j < 0) j = 0;
-  const x = fx - <f64>i;
-  const y = fy + jOff - <f64>j;
+  store<f64>(slot, <f64>((i * nT + j) * STRIDE)); store<f64>(slot, <f64>i, 8);
+  store<f64>(slot, fx - <f64>i, 16); store<f64>(slot, fy + jOff - <f64>j, 24);
+  store<f64>(slot, u, 32); store<f64>(slot, v, 40); store<f64>(slot, invHv, 48); store<f64>(slot, hv, 56);
+  return 0;
+}
+
+/** The rest of tablePairGas at the cell in scratch slot k: the pair gas into the p…, q… globals. */
+function tablePairGas(d: f64, T: f64, k: i32): void {
+  const slot = scratch + (<usize>(k * SLOT) << 3);
+  const oA = <i32>load<f64>(slot), i = <i32>load<f64>(slot, 8);
+  const x = load<f64>(slot, 16), y = load<f64>(slot, 24);
+  const u = load<f64>(slot, 32), v = load<f64>(slot, 40);
+  const invHv = load<f64>(slot, 48), hv = load<f64>(slot, 56);
+  const invHu = gPpdD / Math.LN10;
   const mx = 1 - x;
   const my = 1 - y;
   const x2 = x * x, x3 = x2 * x, x4 = x3 * x, x5 = x4 * x;
@@ -174,7 +221,7 @@ function tablePairGas(d: f64, T: f64): i32 {
   const r01 = r01u * hv, r02 = r02u * hv2, r11 = r11u * hv, r12 = r12u * hv2;
 
   let F: f64 = 0, Fx: f64 = 0, Fy: f64 = 0, Fxy: f64 = 0, Fyy: f64 = 0;
-  const oA = (i * nT + j) * STRIDE, oB = oA + nT * STRIDE, oC = oA + STRIDE, oD = oB + STRIDE;
+  const oB = oA + nT * STRIDE, oC = oA + STRIDE, oD = oB + STRIDE;
   {
     const A0 = D(oA) * a00 + D(oA + 1) * a01 + D(oA + 3) * a02 + D(oB) * a10 + D(oB + 1) * a11 + D(oB + 3) * a12;
     const A1 = D(oA + 2) * a00 + D(oA + 4) * a01 + D(oA + 6) * a02 + D(oB + 2) * a10 + D(oB + 4) * a11 + D(oB + 6) * a12;
@@ -293,7 +340,6 @@ function tablePairGas(d: f64, T: f64): i32 {
       qST = rT * pS + r * pST;
     }
   }
-  return 0;
 }
 
 // Coulomb: coulomb.ts ocpLiquid (Potekhin & Chabrier 2000 liquid OCP) and its cancellation-free series
@@ -355,171 +401,186 @@ function ocpLiquid(G: f64): void {
   ocpU = u; ocpC = c; ocpS = s;
 }
 
-// Output: column-major blocks of n f64 in the order of OUTPUT_COLUMNS in eos/wasm/table-batch.ts:
+// Output: column-major blocks of `stride` f64 in the order of OUTPUT_COLUMNS in eos/wasm/table-batch.ts:
 // totals 0..12 (P e s ∂P/∂ρ ∂P/∂T ∂e/∂ρ ∂e/∂T ∂s/∂ρ ∂s/∂T ∂P/∂Abar ∂P/∂Zbar ∂e/∂Abar ∂e/∂Zbar),
 // derived 13..25 (cv cp Γ1 Γ3 χρ χT ∇ad cs η n₋ n₊ Γ P_rad/P), and with the breakdown 26..70 the five
 // components (electrons, positrons, ions, photons, Coulomb) × (P e s ∂P/∂ρ ∂P/∂T ∂e/∂ρ ∂e/∂T ∂s/∂ρ ∂s/∂T).
 // warn: the WARNING bits of state.ts per point (u8); status: 0 computed, 1 density or temperature
 // outside the domain, 2 outside the table (the caller writes the statuses and messages).
 // @ts-ignore: decorator
-@inline function put(out: usize, n: i32, col: i32, i: i32, v: f64): void { store<f64>(out + ((<usize>col * <usize>n + <usize>i) << 3), v); }
+@inline function put(out: usize, stride: i32, col: i32, i: i32, v: f64): void { store<f64>(out + ((<usize>col * <usize>stride + <usize>i) << 3), v); }
 
 /**
- * Evaluates n points. inp: columns ρ, T, Abar, Zbar, Z_max (5 blocks of n f64). flags: components
+ * Evaluates n points. inp: columns ρ, T, Abar, Zbar, Z_max (5 blocks of `stride` ≥ n f64; out the
+ * same: a stride that is not a multiple of 512 keeps the columns out of one another's cache sets). flags: components
  * included (1 electrons, 2 positrons, 4 ions, 8 photons, 16 Coulomb), 32 relativistic sound speed,
  * 64 breakdown. species > 0: a nuclide mixture for the Coulomb term, z53 the species' Z^{5/3}
  * (species f64) and y the abundances Y_j = X_j/A_j (n × species f64, row-major), as coulomb.ts.
  */
-export function evaluateBatch(n: i32, inp: usize, out: usize, warn: usize, status: usize, flags: i32, species: i32, z53: usize, y: usize): void {
+export function evaluateBatch(n: i32, stride: i32, inp: usize, out: usize, warn: usize, status: usize, flags: i32, species: i32, z53: usize, y: usize): void {
   const incE = (flags & 1) != 0, incP = (flags & 2) != 0, incI = (flags & 4) != 0, incG = (flags & 8) != 0, incC = (flags & 16) != 0;
   const relativistic = (flags & 32) != 0, breakdown = (flags & 64) != 0;
-  const nn = <usize>n << 3;
-  for (let i = 0; i < n; i++) {
-    const ii = <usize>i << 3;
-    const rho = load<f64>(inp + ii);
-    const T = load<f64>(inp + nn + ii);
-    const abar = load<f64>(inp + 2 * nn + ii);
-    const zbar = load<f64>(inp + 3 * nn + ii);
-    const zmax = load<f64>(inp + 4 * nn + ii);
-    if (!(rho >= DENSITY_MIN && rho <= DENSITY_MAX) || !(T >= TEMPERATURE_MIN && T <= TEMPERATURE_MAX)) {
-      store<u8>(status + i, 1);
-      continue;
-    }
-    const ye = zbar / abar;
-    const d = (rho * zbar) / abar;
-    if (tablePairGas(d, T) != 0) {
-      store<u8>(status + i, 2);
-      continue;
-    }
-    store<u8>(status + i, 0);
-    const dDdAbar = -(rho * ye) / abar;
-    const dDdZbar = rho / abar;
-    const tP = pP, tPr = ye * pPD, tPT = pPT, tPA = pPD * dDdAbar, tPZ = pPD * dDdZbar;
-    const te = pU / rho;
-    const tEr = (ye * pUD - te) / rho, tET = pUT / rho, tEA = (pUD * dDdAbar) / rho, tEZ = (pUD * dDdZbar) / rho;
-    const ts = pS / rho;
-    const tSr = (ye * pSD - ts) / rho, tST = pST / rho;
-    const xP = qP, xPr = ye * qPD, xPT = qPT, xPA = qPD * dDdAbar, xPZ = qPD * dDdZbar;
-    const xe = qU / rho;
-    const xEr = (ye * qUD - xe) / rho, xET = qUT / rho, xEA = (qUD * dDdAbar) / rho, xEZ = (qUD * dDdZbar) / rho;
-    const xs = qS / rho;
-    const xSr = (ye * qSD - xs) / rho, xST = qST / rho;
-    const lP = tP - xP, lPr = tPr - xPr, lPT = tPT - xPT, lPA = tPA - xPA, lPZ = tPZ - xPZ;
-    const le = te - xe, lEr = tEr - xEr, lET = tET - xET, lEA = tEA - xEA, lEZ = tEZ - xEZ;
-    const ls = ts - xs, lSr = tSr - xSr, lST = tST - xST;
-    const c = R_ION / abar;
-    const ionP = rho * c * T, ionPr = c * T, ionPT = rho * c, ionPA = -ionP / abar;
-    const ionE = 1.5 * c * T, ionET = 1.5 * c, ionEA = -ionE / abar;
-    const lnRatio = 1.5 * Math.log(abar * T) + LN_ION_QC - Math.log((rho * AVOGADRO) / abar);
-    const ionS = c * (lnRatio + 2.5), ionSr = -c / rho, ionST = (1.5 * c) / T;
-    const aT3 = RADIATION_A * T * T * T;
-    const aT4 = aT3 * T;
-    const phP = aT4 / 3, phPT = (4 * aT3) / 3, phE = aT4 / rho, phEr = -aT4 / (rho * rho), phET = (4 * aT3) / rho;
-    const phS = (4 * aT3) / (3 * rho), phSr = -phS / rho, phST = (4 * RADIATION_A * T * T) / rho;
-    // Coulomb (coulomb.ts coulombCorrection): one species of charge Zbar, or the linear mixing rule
-    const ge = (E2_OVER_K / T) * Math.cbrt(FOUR_PI_OVER_3_NA * rho * (zbar / abar));
-    let U: f64 = 0, Cc: f64 = 0, Sc: f64 = 0, zExp: f64, G: f64;
-    if (species == 0) {
-      G = zbar * Math.cbrt(zbar * zbar) * ge;
-      ocpLiquid(G);
-      const Y = 1 / abar;
-      U = Y * ocpU; Cc = Y * ocpC; Sc = Y * ocpS;
-      zExp = 2;
-    } else {
-      const base = y + ((<usize>i * <usize>species) << 3);
-      let z53avg: f64 = 0;
-      for (let j = 0; j < species; j++) {
-        const Y = load<f64>(base + (<usize>j << 3));
-        const z = load<f64>(z53 + (<usize>j << 3));
-        if (Y == 0 || z == 0) continue;
-        ocpLiquid(z * ge);
-        U += Y * ocpU; Cc += Y * ocpC; Sc += Y * ocpS;
-        z53avg += Y * z;
+  const nn = <usize>stride << 3;
+  for (let b0 = 0; b0 < n; b0 += BLOCK) {
+    const b1 = min(b0 + BLOCK, n);
+    // pass 1: the domain limits, each point's table cell, then its cache lines
+    for (let i = b0; i < b1; i++) {
+      const ii = <usize>i << 3;
+      const rho = load<f64>(inp + ii);
+      const T = load<f64>(inp + nn + ii);
+      if (!(rho >= DENSITY_MIN && rho <= DENSITY_MAX) || !(T >= TEMPERATURE_MIN && T <= TEMPERATURE_MAX)) {
+        store<u8>(status + i, 1);
+        store<f64>(scratch + (<usize>((i - b0) * SLOT) << 3), -1);
+        continue;
       }
-      zExp = 1.0 / 3;
-      G = z53avg * abar * ge;
+      const d = (rho * load<f64>(inp + 3 * nn + ii)) / load<f64>(inp + 2 * nn + ii);
+      store<u8>(status + i, <u8>(locate(d, T, i - b0) == 0 ? 0 : 2));
     }
-    const RT = R_ION * T;
-    const U1 = U - Cc;
-    const third: f64 = 1.0 / 3;
-    const i3rho = third / rho;
-    const kP = rho * RT * U * third;
-    const kPr = RT * (4 * U - Cc) * (third * third);
-    const kPT = rho * R_ION * Cc * third;
-    const kE = RT * U;
-    const kEr = RT * U1 * i3rho;
-    const kET = R_ION * Cc;
-    const kS = R_ION * Sc;
-    const kSr = -R_ION * Cc * i3rho;
-    const kST = (R_ION * Cc) / T;
-    const dUdA = -(U + U1 * third) / abar;
-    const dUdZ = (zExp * U1) / zbar;
-    const kPA = rho * RT * dUdA * third;
-    const kPZ = rho * RT * dUdZ * third;
-    const kEA = RT * dUdA;
-    const kEZ = RT * dUdZ;
-    let P: f64 = 0, Pr: f64 = 0, PT: f64 = 0, PA: f64 = 0, PZ: f64 = 0, e: f64 = 0, Er: f64 = 0, ET: f64 = 0, EA: f64 = 0, EZ: f64 = 0, s: f64 = 0, Sr: f64 = 0, ST: f64 = 0;
-    if (incE) { P += lP; Pr += lPr; PT += lPT; PA += lPA; PZ += lPZ; e += le; Er += lEr; ET += lET; EA += lEA; EZ += lEZ; s += ls; Sr += lSr; ST += lST; }
-    if (incP) { P += xP; Pr += xPr; PT += xPT; PA += xPA; PZ += xPZ; e += xe; Er += xEr; ET += xET; EA += xEA; EZ += xEZ; s += xs; Sr += xSr; ST += xST; }
-    if (incI) { P += ionP; Pr += ionPr; PT += ionPT; PA += ionPA; e += ionE; ET += ionET; EA += ionEA; s += ionS; Sr += ionSr; ST += ionST; }
-    if (incG) { P += phP; PT += phPT; e += phE; Er += phEr; ET += phET; s += phS; Sr += phSr; ST += phST; }
-    if (incC) {
-      P += kP; Pr += kPr; PT += kPT; PA += kPA; PZ += kPZ;
-      e += kE; Er += kEr; ET += kET; EA += kEA; EZ += kEZ;
-      s += kS; Sr += kSr; ST += kST;
+    touchBlock(b1 - b0);
+    // pass 2: the state at each located point
+    for (let i = b0; i < b1; i++) {
+      if (load<u8>(status + i) != 0) continue;
+      const ii = <usize>i << 3;
+      const rho = load<f64>(inp + ii);
+      const T = load<f64>(inp + nn + ii);
+      const abar = load<f64>(inp + 2 * nn + ii);
+      const zbar = load<f64>(inp + 3 * nn + ii);
+      const zmax = load<f64>(inp + 4 * nn + ii);
+      // reciprocals once (division is the slow operation; results may differ from the JavaScript path in the last bit)
+      const iRho = 1 / rho, iAbar = 1 / abar, iT = 1 / T;
+      const ye = zbar * iAbar;
+      tablePairGas((rho * zbar) / abar, T, i - b0);
+      const dDdAbar = -(rho * ye) * iAbar;
+      const dDdZbar = rho * iAbar;
+      const tP = pP, tPr = ye * pPD, tPT = pPT, tPA = pPD * dDdAbar, tPZ = pPD * dDdZbar;
+      const te = pU * iRho;
+      const tEr = (ye * pUD - te) * iRho, tET = pUT * iRho, tEA = (pUD * dDdAbar) * iRho, tEZ = (pUD * dDdZbar) * iRho;
+      const ts = pS * iRho;
+      const tSr = (ye * pSD - ts) * iRho, tST = pST * iRho;
+      const xP = qP, xPr = ye * qPD, xPT = qPT, xPA = qPD * dDdAbar, xPZ = qPD * dDdZbar;
+      const xe = qU * iRho;
+      const xEr = (ye * qUD - xe) * iRho, xET = qUT * iRho, xEA = (qUD * dDdAbar) * iRho, xEZ = (qUD * dDdZbar) * iRho;
+      const xs = qS * iRho;
+      const xSr = (ye * qSD - xs) * iRho, xST = qST * iRho;
+      const lP = tP - xP, lPr = tPr - xPr, lPT = tPT - xPT, lPA = tPA - xPA, lPZ = tPZ - xPZ;
+      const le = te - xe, lEr = tEr - xEr, lET = tET - xET, lEA = tEA - xEA, lEZ = tEZ - xEZ;
+      const ls = ts - xs, lSr = tSr - xSr, lST = tST - xST;
+      const c = R_ION * iAbar;
+      const ionP = rho * c * T, ionPr = c * T, ionPT = rho * c, ionPA = -ionP * iAbar;
+      const ionE = 1.5 * c * T, ionET = 1.5 * c, ionEA = -ionE * iAbar;
+      const lnRatio = 1.5 * Math.log(abar * T) + LN_ION_QC - Math.log((rho * AVOGADRO) * iAbar);
+      const ionS = c * (lnRatio + 2.5), ionSr = -c * iRho, ionST = (1.5 * c) * iT;
+      const aT3 = RADIATION_A * T * T * T;
+      const aT4 = aT3 * T;
+      const phP = aT4 / 3, phPT = (4 * aT3) / 3, phE = aT4 * iRho, phEr = -aT4 / (rho * rho), phET = (4 * aT3) * iRho;
+      const phS = (4 * aT3) / (3 * rho), phSr = -phS * iRho, phST = (4 * RADIATION_A * T * T) * iRho;
+      // Coulomb (coulomb.ts coulombCorrection): one species of charge Zbar, or the linear mixing rule
+      let U: f64 = 0, Cc: f64 = 0, Sc: f64 = 0, zExp: f64, G: f64;
+      if (species == 0) {
+        // Γ = Zbar^{5/3} Γ_e with one cube root: (e²/kT)(4π/3 N_A ρ Ye Zbar⁵)^{1/3}
+        const z2 = zbar * zbar;
+        G = E2_OVER_K * iT * Math.cbrt(FOUR_PI_OVER_3_NA * rho * ye * z2 * z2 * zbar);
+        ocpLiquid(G);
+        const Y = iAbar;
+        U = Y * ocpU; Cc = Y * ocpC; Sc = Y * ocpS;
+        zExp = 2;
+      } else {
+        const ge = (E2_OVER_K * iT) * Math.cbrt(FOUR_PI_OVER_3_NA * rho * ye);
+        const base = y + ((<usize>i * <usize>species) << 3);
+        let z53avg: f64 = 0;
+        for (let j = 0; j < species; j++) {
+          const Y = load<f64>(base + (<usize>j << 3));
+          const z = load<f64>(z53 + (<usize>j << 3));
+          if (Y == 0 || z == 0) continue;
+          ocpLiquid(z * ge);
+          U += Y * ocpU; Cc += Y * ocpC; Sc += Y * ocpS;
+          z53avg += Y * z;
+        }
+        zExp = 1.0 / 3;
+        G = z53avg * abar * ge;
+      }
+      const RT = R_ION * T;
+      const U1 = U - Cc;
+      const third: f64 = 1.0 / 3;
+      const i3rho = third * iRho;
+      const kP = rho * RT * U * third;
+      const kPr = RT * (4 * U - Cc) * (third * third);
+      const kPT = rho * R_ION * Cc * third;
+      const kE = RT * U;
+      const kEr = RT * U1 * i3rho;
+      const kET = R_ION * Cc;
+      const kS = R_ION * Sc;
+      const kSr = -R_ION * Cc * i3rho;
+      const kST = (R_ION * Cc) * iT;
+      const dUdA = -(U + U1 * third) * iAbar;
+      const dUdZ = (zExp * U1) / zbar;
+      const kPA = rho * RT * dUdA * third;
+      const kPZ = rho * RT * dUdZ * third;
+      const kEA = RT * dUdA;
+      const kEZ = RT * dUdZ;
+      let P: f64 = 0, Pr: f64 = 0, PT: f64 = 0, PA: f64 = 0, PZ: f64 = 0, e: f64 = 0, Er: f64 = 0, ET: f64 = 0, EA: f64 = 0, EZ: f64 = 0, s: f64 = 0, Sr: f64 = 0, ST: f64 = 0;
+      if (incE) { P += lP; Pr += lPr; PT += lPT; PA += lPA; PZ += lPZ; e += le; Er += lEr; ET += lET; EA += lEA; EZ += lEZ; s += ls; Sr += lSr; ST += lST; }
+      if (incP) { P += xP; Pr += xPr; PT += xPT; PA += xPA; PZ += xPZ; e += xe; Er += xEr; ET += xET; EA += xEA; EZ += xEZ; s += xs; Sr += xSr; ST += xST; }
+      if (incI) { P += ionP; Pr += ionPr; PT += ionPT; PA += ionPA; e += ionE; ET += ionET; EA += ionEA; s += ionS; Sr += ionSr; ST += ionST; }
+      if (incG) { P += phP; PT += phPT; e += phE; Er += phEr; ET += phET; s += phS; Sr += phSr; ST += phST; }
+      if (incC) {
+        P += kP; Pr += kPr; PT += kPT; PA += kPA; PZ += kPZ;
+        e += kE; Er += kEr; ET += kET; EA += kEA; EZ += kEZ;
+        s += kS; Sr += kSr; ST += kST;
+      }
+      put(out, stride, 0, i, P); put(out, stride, 1, i, e); put(out, stride, 2, i, s); put(out, stride, 3, i, Pr); put(out, stride, 4, i, PT);
+      put(out, stride, 5, i, Er); put(out, stride, 6, i, ET); put(out, stride, 7, i, Sr); put(out, stride, 8, i, ST);
+      put(out, stride, 9, i, PA); put(out, stride, 10, i, PZ); put(out, stride, 11, i, EA); put(out, stride, 12, i, EZ);
+      const cv = ET;
+      const g3m1 = PT / (rho * cv);
+      const g1P = rho * Pr + (T * PT * PT) / (rho * cv);
+      const g1 = g1P / P;
+      put(out, stride, 13, i, cv);
+      put(out, stride, 14, i, (cv * g1P) / (rho * Pr));
+      put(out, stride, 15, i, g1);
+      put(out, stride, 16, i, 1 + g3m1);
+      put(out, stride, 17, i, (rho * Pr) / P);
+      put(out, stride, 18, i, (T * PT) / P);
+      put(out, stride, 19, i, g3m1 / g1);
+      let cs2 = g1P * iRho;
+      if (relativistic) cs2 = cs2 / (1 + (e + P * iRho) / C2);
+      put(out, stride, 20, i, cs2 > 0 ? Math.sqrt(cs2) : 0);
+      put(out, stride, 21, i, pEta);
+      put(out, stride, 22, i, pNe);
+      put(out, stride, 23, i, pNp);
+      put(out, stride, 24, i, G);
+      put(out, stride, 25, i, incG ? phP / P : 0);
+      if (breakdown) {
+        let b = 26;
+        if (incE) { put(out, stride, b, i, lP); put(out, stride, b + 1, i, le); put(out, stride, b + 2, i, ls); put(out, stride, b + 3, i, lPr); put(out, stride, b + 4, i, lPT); put(out, stride, b + 5, i, lEr); put(out, stride, b + 6, i, lET); put(out, stride, b + 7, i, lSr); put(out, stride, b + 8, i, lST); }
+        else for (let k = 0; k < 9; k++) put(out, stride, b + k, i, 0);
+        b = 35;
+        if (incP) { put(out, stride, b, i, xP); put(out, stride, b + 1, i, xe); put(out, stride, b + 2, i, xs); put(out, stride, b + 3, i, xPr); put(out, stride, b + 4, i, xPT); put(out, stride, b + 5, i, xEr); put(out, stride, b + 6, i, xET); put(out, stride, b + 7, i, xSr); put(out, stride, b + 8, i, xST); }
+        else for (let k = 0; k < 9; k++) put(out, stride, b + k, i, 0);
+        b = 44;
+        if (incI) { put(out, stride, b, i, ionP); put(out, stride, b + 1, i, ionE); put(out, stride, b + 2, i, ionS); put(out, stride, b + 3, i, ionPr); put(out, stride, b + 4, i, ionPT); put(out, stride, b + 5, i, 0); put(out, stride, b + 6, i, ionET); put(out, stride, b + 7, i, ionSr); put(out, stride, b + 8, i, ionST); }
+        else for (let k = 0; k < 9; k++) put(out, stride, b + k, i, 0);
+        b = 53;
+        if (incG) { put(out, stride, b, i, phP); put(out, stride, b + 1, i, phE); put(out, stride, b + 2, i, phS); put(out, stride, b + 3, i, 0); put(out, stride, b + 4, i, phPT); put(out, stride, b + 5, i, phEr); put(out, stride, b + 6, i, phET); put(out, stride, b + 7, i, phSr); put(out, stride, b + 8, i, phST); }
+        else for (let k = 0; k < 9; k++) put(out, stride, b + k, i, 0);
+        b = 62;
+        if (incC) { put(out, stride, b, i, kP); put(out, stride, b + 1, i, kE); put(out, stride, b + 2, i, kS); put(out, stride, b + 3, i, kPr); put(out, stride, b + 4, i, kPT); put(out, stride, b + 5, i, kEr); put(out, stride, b + 6, i, kET); put(out, stride, b + 7, i, kSr); put(out, stride, b + 8, i, kST); }
+        else for (let k = 0; k < 9; k++) put(out, stride, b + k, i, 0);
+      }
+      // warnings
+      let w: i32 = 0;
+      // state.ts partialIonizationLikely, NEUTRON_DRIP_DENSITY, GAMMA_MELT and the stability tests
+      if (BOLTZMANN_K * T < (zmax * zmax * RYDBERG) / SAHA_FACTOR) {
+        const ionSphere = Math.cbrt((3 * abar) / (4 * Math.PI * rho * AVOGADRO));
+        if (ionSphere > BOHR_RADIUS / zmax) w |= 1;
+      }
+      if (rho > NEUTRON_DRIP_DENSITY) w |= 2;
+      if (G > GAMMA_MELT) w |= 4;
+      if (!(P > 0)) w |= 8;
+      const cs2w = Pr + (T * PT * PT) / (rho * rho * ET);
+      if (!(Pr > 0) || !(cs2w > 0)) w |= 16;
+      if (incI && lnRatio <= 0) w |= 32;
+      store<u8>(warn + i, <u8>w);
     }
-    put(out, n, 0, i, P); put(out, n, 1, i, e); put(out, n, 2, i, s); put(out, n, 3, i, Pr); put(out, n, 4, i, PT);
-    put(out, n, 5, i, Er); put(out, n, 6, i, ET); put(out, n, 7, i, Sr); put(out, n, 8, i, ST);
-    put(out, n, 9, i, PA); put(out, n, 10, i, PZ); put(out, n, 11, i, EA); put(out, n, 12, i, EZ);
-    const cv = ET;
-    const g3m1 = PT / (rho * cv);
-    const g1P = rho * Pr + (T * PT * PT) / (rho * cv);
-    const g1 = g1P / P;
-    put(out, n, 13, i, cv);
-    put(out, n, 14, i, (cv * g1P) / (rho * Pr));
-    put(out, n, 15, i, g1);
-    put(out, n, 16, i, 1 + g3m1);
-    put(out, n, 17, i, (rho * Pr) / P);
-    put(out, n, 18, i, (T * PT) / P);
-    put(out, n, 19, i, g3m1 / g1);
-    let cs2 = g1P / rho;
-    if (relativistic) cs2 = cs2 / (1 + (e + P / rho) / C2);
-    put(out, n, 20, i, cs2 > 0 ? Math.sqrt(cs2) : 0);
-    put(out, n, 21, i, pEta);
-    put(out, n, 22, i, pNe);
-    put(out, n, 23, i, pNp);
-    put(out, n, 24, i, G);
-    put(out, n, 25, i, incG ? phP / P : 0);
-    if (breakdown) {
-      let b = 26;
-      if (incE) { put(out, n, b, i, lP); put(out, n, b + 1, i, le); put(out, n, b + 2, i, ls); put(out, n, b + 3, i, lPr); put(out, n, b + 4, i, lPT); put(out, n, b + 5, i, lEr); put(out, n, b + 6, i, lET); put(out, n, b + 7, i, lSr); put(out, n, b + 8, i, lST); }
-      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
-      b = 35;
-      if (incP) { put(out, n, b, i, xP); put(out, n, b + 1, i, xe); put(out, n, b + 2, i, xs); put(out, n, b + 3, i, xPr); put(out, n, b + 4, i, xPT); put(out, n, b + 5, i, xEr); put(out, n, b + 6, i, xET); put(out, n, b + 7, i, xSr); put(out, n, b + 8, i, xST); }
-      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
-      b = 44;
-      if (incI) { put(out, n, b, i, ionP); put(out, n, b + 1, i, ionE); put(out, n, b + 2, i, ionS); put(out, n, b + 3, i, ionPr); put(out, n, b + 4, i, ionPT); put(out, n, b + 5, i, 0); put(out, n, b + 6, i, ionET); put(out, n, b + 7, i, ionSr); put(out, n, b + 8, i, ionST); }
-      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
-      b = 53;
-      if (incG) { put(out, n, b, i, phP); put(out, n, b + 1, i, phE); put(out, n, b + 2, i, phS); put(out, n, b + 3, i, 0); put(out, n, b + 4, i, phPT); put(out, n, b + 5, i, phEr); put(out, n, b + 6, i, phET); put(out, n, b + 7, i, phSr); put(out, n, b + 8, i, phST); }
-      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
-      b = 62;
-      if (incC) { put(out, n, b, i, kP); put(out, n, b + 1, i, kE); put(out, n, b + 2, i, kS); put(out, n, b + 3, i, kPr); put(out, n, b + 4, i, kPT); put(out, n, b + 5, i, kEr); put(out, n, b + 6, i, kET); put(out, n, b + 7, i, kSr); put(out, n, b + 8, i, kST); }
-      else for (let k = 0; k < 9; k++) put(out, n, b + k, i, 0);
-    }
-    // warnings
-    let w: i32 = 0;
-    // state.ts partialIonizationLikely, NEUTRON_DRIP_DENSITY, GAMMA_MELT and the stability tests
-    if (BOLTZMANN_K * T < (zmax * zmax * RYDBERG) / SAHA_FACTOR) {
-      const ionSphere = Math.cbrt((3 * abar) / (4 * Math.PI * rho * AVOGADRO));
-      if (ionSphere > BOHR_RADIUS / zmax) w |= 1;
-    }
-    if (rho > NEUTRON_DRIP_DENSITY) w |= 2;
-    if (G > GAMMA_MELT) w |= 4;
-    if (!(P > 0)) w |= 8;
-    const cs2w = Pr + (T * PT * PT) / (rho * rho * ET);
-    if (!(Pr > 0) || !(cs2w > 0)) w |= 16;
-    if (incI && lnRatio <= 0) w |= 32;
-    store<u8>(warn + i, <u8>w);
   }
 }
