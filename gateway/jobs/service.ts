@@ -82,6 +82,7 @@ export interface JobView {
   finishedAt: string | null;
   error: string | null;
   request: Record<string, unknown>;
+  /** Batch: statusCounts, computed, warningCounts and warned (null for jobs finished before warnings were recorded). */
   result: Record<string, unknown> | null;
   files: Record<string, FileView>;
 }
@@ -128,7 +129,7 @@ export function toView(row: store.JobRow, files: store.FileMeta[], now = Date.no
     finishedAt: row.finished_at ? new Date(row.finished_at).toISOString() : null,
     error: row.error,
     request: row.request,
-    result: row.result,
+    result: row.kind === 'batch' && row.result && !('warningCounts' in row.result) ? { ...row.result, warningCounts: null, warned: null } : row.result,
     files: fileViews,
   };
 }

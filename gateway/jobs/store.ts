@@ -50,6 +50,8 @@ export interface ChunkRow {
   input: Buffer;
   result: Buffer | null;
   status: Buffer | null;
+  /** One warning-flag byte per point (eos WARNING bits); null until computed, and for chunks stored before migration 008. */
+  warning_flags: Buffer | null;
   attempts: number;
   worker: string | null;
   compute_ms: number | null;
@@ -61,7 +63,7 @@ export function insertJob(db: Knex | Knex.Transaction, row: Partial<JobRow> & Pi
   return db('jobs').insert({ ...row, request: JSON.stringify(row.request) }).returning('*').then((rows) => rows[0] as JobRow);
 }
 
-export async function insertChunks(trx: Knex.Transaction, rows: Array<Omit<ChunkRow, 'result' | 'status' | 'attempts' | 'worker' | 'compute_ms'>>) {
+export async function insertChunks(trx: Knex.Transaction, rows: Array<Omit<ChunkRow, 'result' | 'status' | 'warning_flags' | 'attempts' | 'worker' | 'compute_ms'>>) {
   for (let i = 0; i < rows.length; i += 200) await trx('job_chunks').insert(rows.slice(i, i + 200));
 }
 
@@ -157,7 +159,7 @@ export async function countAttempt(db: Knex, jobId: string, chunkIndex: number):
  */
 export async function storeChunkResult(
   db: Knex,
-  input: { jobId: string; chunkIndex: number; points: number; result: Buffer; status: Buffer; worker: string; computeMs: number },
+  input: { jobId: string; chunkIndex: number; points: number; result: Buffer; status: Buffer; warningFlags: Buffer; worker: string; computeMs: number },
 ): Promise<{ chunks_done: number; chunks_total: number } | undefined> {
   return db.transaction(async (trx) => {
     const job = await trx('jobs').where({ id: input.jobId }).forUpdate().first('state');
@@ -165,7 +167,7 @@ export async function storeChunkResult(
     const stored = await trx('job_chunks')
       .where({ job_id: input.jobId, chunk_index: input.chunkIndex })
       .whereNull('result')
-      .update({ result: input.result, status: input.status, worker: input.worker, compute_ms: input.computeMs, finished_at: trx.raw('clock_timestamp()') });
+      .update({ result: input.result, status: input.status, warning_flags: input.warningFlags, worker: input.worker, compute_ms: input.computeMs, finished_at: trx.raw('clock_timestamp()') });
     if (stored === 0) return undefined;
     const [counters] = await trx('jobs')
       .where({ id: input.jobId })
@@ -180,8 +182,8 @@ export async function storeChunkResult(
   });
 }
 
-export function chunkResults(db: Knex | Knex.Transaction, jobId: string): Promise<Array<Pick<ChunkRow, 'chunk_index' | 'points' | 'input' | 'result' | 'status'>>> {
-  return db('job_chunks').where({ job_id: jobId }).orderBy('chunk_index').select('chunk_index', 'points', 'input', 'result', 'status');
+export function chunkResults(db: Knex | Knex.Transaction, jobId: string): Promise<Array<Pick<ChunkRow, 'chunk_index' | 'points' | 'input' | 'result' | 'status' | 'warning_flags'>>> {
+  return db('job_chunks').where({ job_id: jobId }).orderBy('chunk_index').select('chunk_index', 'points', 'input', 'result', 'status', 'warning_flags');
 }
 
 export async function pendingQueueIds(db: Knex, jobId: string): Promise<string[]> {

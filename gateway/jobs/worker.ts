@@ -27,7 +27,7 @@ import { ProblemError } from '../shared/problem.js';
 import { TableBuildRunner } from '../tables/runner.js';
 import { jobFailedMail, jobFinishedMail } from './messages.js';
 import { QUEUES, type ChunkMessage, type JobQueue, type TableMessage } from './queue.js';
-import { assemble, packColumns, resultsCsv, resultsHdf5, statusCounts, unpackColumns, type ResultsRequest } from './results.js';
+import { assemble, packColumns, resultsCsv, resultsHdf5, statusCounts, unpackColumns, warningSummary, type ResultsRequest } from './results.js';
 import { JOBS_ENDPOINT } from './service.js';
 import { h5 } from './hdf5.js';
 import * as store from './store.js';
@@ -84,7 +84,7 @@ export class JobWorker {
     }
     await store.markRunning(db, jobId);
     const started = performance.now();
-    let result: { columns: Float64Array[]; status: Uint8Array };
+    let result: { columns: Float64Array[]; status: Uint8Array; warningFlags: Uint8Array };
     try {
       result = await this.compute(job.request as unknown as ResultsRequest & { soundSpeed?: string }, chunk);
     } catch (error) {
@@ -100,6 +100,7 @@ export class JobWorker {
       points: chunk.points,
       result: packColumns(result.columns, chunk.points),
       status: Buffer.from(result.status),
+      warningFlags: Buffer.from(result.warningFlags),
       worker: this.name,
       computeMs,
     });
@@ -115,7 +116,7 @@ export class JobWorker {
     if (counters.chunks_done >= counters.chunks_total) await this.finalize(jobId);
   }
 
-  private async compute(request: ResultsRequest & { soundSpeed?: string }, chunk: store.ChunkRow): Promise<{ columns: Float64Array[]; status: Uint8Array }> {
+  private async compute(request: ResultsRequest & { soundSpeed?: string }, chunk: store.ChunkRow): Promise<{ columns: Float64Array[]; status: Uint8Array; warningFlags: Uint8Array }> {
     const n = chunk.points;
     const inputs = unpackColumns(chunk.input, request.inputColumns.length, n);
     const col = (name: string) => inputs[request.inputColumns.indexOf(name)];
@@ -140,7 +141,7 @@ export class JobWorker {
       if (value instanceof Float64Array) return value;
       return Float64Array.from(value as unknown as ArrayLike<number>, (x) => Number(x));
     });
-    return { columns, status: answer.status };
+    return { columns, status: answer.status, warningFlags: answer.warningFlags };
   }
 
   /** Assembles the result files of a job whose chunks are all stored and marks it completed (idempotent). */
@@ -162,7 +163,7 @@ export class JobWorker {
         content: await resultsHdf5(results, request, jobId),
       });
       const counts = statusCounts(results.status);
-      return store.finish(trx, jobId, 'completed', { result: { statusCounts: counts, computed: counts['0'] ?? 0 }, error: null });
+      return store.finish(trx, jobId, 'completed', { result: { statusCounts: counts, computed: counts['0'] ?? 0, ...warningSummary(results) }, error: null });
     });
     if (finished) {
       this.deps.logger.info({ jobId, worker: this.name }, 'job completed');
@@ -195,7 +196,7 @@ export class JobWorker {
       if (job.state === 'completed') {
         const summary =
           job.kind === 'batch'
-            ? `${Number(job.points)} states evaluated, ${(job.result?.['computed'] as number | undefined) ?? 0} of them computed without a status code.`
+            ? `${Number(job.points)} states evaluated, ${(job.result?.['computed'] as number | undefined) ?? 0} of them computed without a status code.${warnedSentence(job.result?.['warned'])}`
             : `Grid of ${Number(job.points)} nodes; largest relative error of P, e and s: ${formatError(job.result?.['accuracy']?.['maxRelativeError'])}.`;
         mailer.send(to.email, jobFinishedMail({ ...common, summary }));
       } else if (job.state === 'failed') {
@@ -205,6 +206,12 @@ export class JobWorker {
       logger.error({ err: error, jobId: job.id }, 'job mail not sent');
     }
   }
+}
+
+/** The physics cautions in the finished mail: how many points carry a warning (the warningFlags column says which). */
+function warnedSentence(warned: unknown): string {
+  if (typeof warned !== 'number' || warned === 0) return '';
+  return ` ${warned} ${warned === 1 ? 'carries' : 'carry'} physics warnings (see the warningFlags column) — check them before using those numbers.`;
 }
 
 function formatError(x: unknown): string {

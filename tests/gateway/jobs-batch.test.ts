@@ -48,7 +48,7 @@ function states(n = 20) {
 async function evaluate(path: string, body: unknown) {
   const res = await fetch(`${gateway.url}/v1/eos/${path}`, { method: 'POST', headers: bearer(key.token), body: JSON.stringify(body) });
   assert.equal(res.status, 200);
-  return (await res.json()) as { values: Record<string, Array<number | null>>; status: number[] };
+  return (await res.json()) as { values: Record<string, Array<number | null>>; status: number[]; warningFlags: number[] };
 }
 
 describe('a CSV batch job', () => {
@@ -85,15 +85,16 @@ describe('a CSV batch job', () => {
     csvText = bytes.toString('utf8');
     const csv = parseCsv(csvText);
     assert.deepEqual(csv.header.slice(0, 2), ['density', 'temperature']);
-    assert.equal(csv.header.at(-1), 'status');
+    assert.deepEqual(csv.header.slice(-2), ['status', 'warningFlags']);
     assert.equal(csv.rows.length, 20);
     const direct = await evaluate('evaluate', { density, temperature, composition: { mixture: 'c12-o16' } });
     assert.deepEqual(csvColumn(csv, 'density'), density);
     assert.deepEqual(csvColumn(csv, 'temperature'), temperature);
     const fields = Object.keys(direct.values);
-    assert.deepEqual(csv.header.slice(2, -1), fields);
+    assert.deepEqual(csv.header.slice(2, -2), fields);
     for (const f of fields) assert.deepEqual(csvColumn(csv, f), direct.values[f], `field ${f}`);
     assert.deepEqual(csvColumn(csv, 'status'), direct.status);
+    assert.deepEqual(csvColumn(csv, 'warningFlags'), direct.warningFlags);
   });
 
   test('HDF5 results hold the same numbers, with units', async () => {
@@ -112,6 +113,7 @@ describe('a CSV batch job', () => {
         assert.equal(pressure.attrs['units']!.value, 'erg/cm³');
         assert.deepEqual(Array.from((f.get('inputs/density') as InstanceType<typeof lib.Dataset>).value as Float64Array), csvColumn(csv, 'density'));
         assert.deepEqual(Array.from((f.get('status') as InstanceType<typeof lib.Dataset>).value as Uint8Array), csvColumn(csv, 'status'));
+        assert.deepEqual(Array.from((f.get('warningFlags') as InstanceType<typeof lib.Dataset>).value as Uint8Array), csvColumn(csv, 'warningFlags'));
       } finally {
         f.close();
       }
@@ -168,7 +170,7 @@ test('an HDF5 upload with per-point abar and zbar equals evaluate with the same 
   const job = await waitForJob(`${gateway.url}/v1/jobs/${created.body.id}`, key.token);
   assert.equal(job.state, 'completed', job.error);
   const csv = parseCsv((await download(`${gateway.url}${job.files.csv.url}`, key.token)).bytes.toString('utf8'));
-  assert.deepEqual(csv.header, ['density', 'temperature', 'abar', 'zbar', 'pressure', 'specificEntropy', 'gamma1', 'status']);
+  assert.deepEqual(csv.header, ['density', 'temperature', 'abar', 'zbar', 'pressure', 'specificEntropy', 'gamma1', 'status', 'warningFlags']);
   const direct = await evaluate('evaluate', { density, temperature, composition: { abar, zbar }, fields: ['pressure', 'specificEntropy', 'gamma1'] });
   for (const f of ['pressure', 'specificEntropy', 'gamma1']) assert.deepEqual(csvColumn(csv, f), direct.values[f], f);
 });
