@@ -14,7 +14,7 @@ import { EosPool } from '../gateway/eos/pool.js';
 import { EosService } from '../gateway/eos/service.js';
 import { Meter } from '../gateway/usage/meter.js';
 import { bufferFromFile } from '../gateway/jobs/hdf5.js';
-import { assemble, packColumns, resultsCsv, resultsHdf5, statusCounts, type ResultsRequest } from '../gateway/jobs/results.js';
+import { assemble, packColumns, resultsCsv, resultsHdf5, statusCounts, warningSummary, type ResultsRequest } from '../gateway/jobs/results.js';
 import * as store from '../gateway/jobs/store.js';
 import { accuracySummary } from '../gateway/tables/accuracy.js';
 import { addMixtureTerms } from '../gateway/tables/mixture-terms.js';
@@ -80,7 +80,8 @@ async function seedBatch(knex: Knex, eos: EosService, organisationId: string, cr
   const input = packColumns([Float64Array.from(density), Float64Array.from(temperature)], n);
   const result = packColumns(batch.outputs.fields.map((f) => answer.fields[f] as Float64Array), n);
   const status = Buffer.from(answer.status);
-  const results = assemble(request, [{ points: n, input, result, status }]);
+  const warningFlags = Buffer.from(answer.warningFlags);
+  const results = assemble(request, [{ points: n, input, result, status, warning_flags: warningFlags }]);
   await knex.transaction(async (trx) => {
     const ago = (minutes: number) => trx.raw(`now() - (? * interval '1 minute')`, [minutes]);
     const job = await store.insertJob(trx, {
@@ -96,12 +97,12 @@ async function seedBatch(knex: Knex, eos: EosService, organisationId: string, cr
       chunks_done: 1,
       points_done: n,
       progress: 1,
-      result: { statusCounts: statusCounts(results.status), computed: statusCounts(results.status)['0'] ?? 0 } as never,
+      result: { statusCounts: statusCounts(results.status), computed: statusCounts(results.status)['0'] ?? 0, ...warningSummary(results) } as never,
       created_at: ago(3 * 24 * 60 + 5) as never,
       started_at: ago(3 * 24 * 60 + 4) as never,
       finished_at: ago(3 * 24 * 60 + 3) as never,
     });
-    await trx('job_chunks').insert({ job_id: job.id, chunk_index: 0, first_point: 0, points: n, queue_job_id: job.id, input, result, status, attempts: 1, worker: 'demo-seed', compute_ms: answer.meta.computeMs, finished_at: ago(3 * 24 * 60 + 3) });
+    await trx('job_chunks').insert({ job_id: job.id, chunk_index: 0, first_point: 0, points: n, queue_job_id: job.id, input, result, status, warning_flags: warningFlags, attempts: 1, worker: 'demo-seed', compute_ms: answer.meta.computeMs, finished_at: ago(3 * 24 * 60 + 3) });
     await store.insertFile(trx, { organisationId, jobId: job.id, role: 'upload', fileName: BATCH_NAME, contentType: 'text/csv', content: upload });
     await store.insertFile(trx, { organisationId, jobId: job.id, role: 'result-csv', fileName: 'helium-shell-track-results.csv', contentType: 'text/csv', content: resultsCsv(results) });
     await store.insertFile(trx, { organisationId, jobId: job.id, role: 'result-hdf5', fileName: 'helium-shell-track-results.h5', contentType: 'application/x-hdf5', content: await resultsHdf5(results, request, job.id) });
