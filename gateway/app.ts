@@ -43,7 +43,7 @@ export interface AppDeps {
   logger: Logger;
 }
 
-export async function createApp({ config, db, logger }: AppDeps): Promise<{ app: express.Express; services: Services }> {
+export async function createApp({ config, db, logger }: AppDeps): Promise<{ app: express.Express; services: Services; eos: EosService }> {
   const services = createServices(config, db, logger);
   const app = express();
   app.disable('x-powered-by');
@@ -127,5 +127,5 @@ export async function createApp({ config, db, logger }: AppDeps): Promise<{ app:
   app.use(dashboardRoutes(config.DASHBOARD_DIR));
   app.use(notFound);
   app.use(problemHandler);
-  return { app, services };
+  return { app, services, eos: eosService };
 }

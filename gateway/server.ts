@@ -16,12 +16,14 @@ export interface RunningGateway {
   port: number;
   server: http.Server;
   close(): Promise<void>;
+  /** Loads the free-energy table ahead of the first "table" request (process starts call it; tests do not). */
+  warmTable(): Promise<void>;
 }
 
 export async function startGateway(config: Config): Promise<RunningGateway> {
   const logger = createLogger(config.LOG_LEVEL);
   const db = createDb(config.DATABASE_URL, config.DATABASE_POOL_MAX);
-  const { app, services } = await createApp({ config, db, logger });
+  const { app, services, eos } = await createApp({ config, db, logger });
   const server = http.createServer(app);
   server.keepAliveTimeout = 5_000;
   server.requestTimeout = 120_000;
@@ -53,7 +55,7 @@ export async function startGateway(config: Config): Promise<RunningGateway> {
       logger.flush();
     })());
 
-  return { url, port, server, close };
+  return { url, port, server, close, warmTable: () => eos.warmTable() };
 }
 
 async function main() {
@@ -68,6 +70,7 @@ async function main() {
     throw error;
   }
   const gateway = await startGateway(config);
+  void gateway.warmTable();
   const stop = () => {
     gateway.close().then(
       () => process.exit(0),

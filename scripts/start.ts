@@ -88,6 +88,7 @@ async function main() {
   }
   const gateway: RunningGateway = await startGateway(config);
   cleanups.push(() => gateway.close());
+  void gateway.warmTable();
 
   const shownUrl = gateway.url;
   console.log(`

@@ -503,6 +503,23 @@ export class EosService {
   /** The table and its accuracy report once both are loaded (then every table request uses them as they are). */
   private tableReady: { tableAccuracy: TableAccuracyMeta | null; table: FreeEnergyTable } | undefined;
 
+  /** Reads the table and its accuracy report (once: both are kept, by tableAccuracy and the pool). */
+  private async loadTable(file: string): Promise<{ tableAccuracy: TableAccuracyMeta | null; table: FreeEnergyTable | undefined }> {
+    const [tableAccuracy, table] = await Promise.all([this.tableAccuracy(file), this.pool.tableForTasks()]);
+    if (table) this.tableReady = { tableAccuracy, table };
+    return { tableAccuracy, table };
+  }
+
+  /**
+   * Loads the configured table now (called once a gateway process listens), so that the first
+   * "table" request does not wait ~3 s for it. A table that cannot be read is reported, as before,
+   * to the requests that ask for it.
+   */
+  async warmTable(): Promise<void> {
+    const file = this.pool.tablePath;
+    if (file && !this.tableReady) await this.loadTable(file).catch(() => undefined);
+  }
+
   /** Runs a prepared batch in the pool and merges the chunks (no metering). */
   async run(batch: PreparedBatch, encoding: Encoding, signal?: AbortSignal | LazySignal): Promise<BatchAnswer> {
     const { n } = batch;
@@ -514,11 +531,7 @@ export class EosService {
         throw new ProblemError('method-not-available', 501, 'Method not available', 'The "table" method is not available on this gateway: no free-energy table is configured (EOS_TABLE_PATH). Use "method": "exact".', { method: 'table' });
       }
       if (this.tableReady) ({ tableAccuracy, table } = this.tableReady);
-      else {
-        [tableAccuracy, table] = await Promise.all([this.tableAccuracy(file), this.pool.tableForTasks()]);
-        // both are read once and then kept (by tableAccuracy and the pool): no waiting after that
-        if (table) this.tableReady = { tableAccuracy, table };
-      }
+      else ({ tableAccuracy, table } = await this.loadTable(file));
     }
     const size = this.chunkPoints;
     const chunks: Array<() => { task: EosTask; transfer: ArrayBuffer[] }> = [];
