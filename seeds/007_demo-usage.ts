@@ -14,6 +14,8 @@
  * - Latency per request: a fixed overhead plus a per-point cost for the method, with log-normal
  *   spread, counted into the buckets of gateway/usage/latency-buckets.ts.
  *
+ * The keys' `last_used_at` is moved up to their latest seeded hour (never back).
+ *
  * Idempotent: every value is a pure function of (key, endpoint, hour) and the bad day, rows are
  * inserted with ON CONFLICT DO NOTHING (real metered rows are never touched), and a later start
  * only fills the hours since. All of it is invented.
@@ -175,5 +177,14 @@ export async function seed(knex: Knex) {
       .insert(rows.slice(i, i + 500))
       .onConflict(['organisation_id', 'api_key_id', 'endpoint', 'minute'])
       .ignore();
+  }
+  // each key's "last used" follows its seeded use (the Keys page said "Never"); real use moves it on
+  for (const keyId of keys) {
+    const last = await knex('usage_minutes').where({ organisation_id: org.id, api_key_id: keyId }).max('minute as at').first();
+    if (!last?.at) continue;
+    await knex('api_keys')
+      .where({ id: keyId })
+      .andWhere((q) => q.whereNull('last_used_at').orWhere('last_used_at', '<', last.at))
+      .update({ last_used_at: last.at });
   }
 }
