@@ -25,9 +25,10 @@ export function createIonGasTerms(): IonGasTerms {
   return { ...createComponentTerms(), degeneracy: 0 };
 }
 
-const R_GAS = AVOGADRO * BOLTZMANN_K;
+/** N_A k, the gas constant per unit Abar. */
+export const R_GAS = AVOGADRO * BOLTZMANN_K;
 /** ln of (m_u k_B / (2π ħ²))^{3/2}, the quantum concentration per (Abar T)^{3/2}. */
-const LN_QC_UNIT = 1.5 * Math.log((ATOMIC_MASS_UNIT * BOLTZMANN_K) / (2 * Math.PI * HBAR * HBAR));
+export const LN_QC_UNIT = 1.5 * Math.log((ATOMIC_MASS_UNIT * BOLTZMANN_K) / (2 * Math.PI * HBAR * HBAR));
 
 /** Fill `out` with the ideal ion gas at density rho [g/cm³], temperature T [K], mean mass number abar. */
 export function ionGas(rho: number, T: number, abar: number, out: IonGasTerms): void {

@@ -22,7 +22,7 @@
  * lengths, an unknown option) throw at the call.
  */
 import {
-  ATOMIC_MASS_UNIT, AVOGADRO, BOLTZMANN_K, CONSTANTS_SET, ELECTRON_MASS, ELECTRON_REST_ENERGY, ELEMENTARY_CHARGE, HBAR, RADIATION_A,
+  AVOGADRO, BOLTZMANN_K, CONSTANTS_SET, ELECTRON_MASS, ELECTRON_REST_ENERGY, ELEMENTARY_CHARGE, HBAR, RADIATION_A,
   SPEED_OF_LIGHT,
 } from './constants.js';
 import {
@@ -30,7 +30,7 @@ import {
   type Column, type CompositionInput, type ResolvedComposition,
 } from './composition.js';
 import { createPairGasState, pairGas, type PairGasState, type PairSpecies } from './electron-positron.js';
-import { createIonGasTerms, ionGas } from './ions.js';
+import { LN_QC_UNIT, R_GAS, createIonGasTerms, ionGas } from './ions.js';
 import { createPhotonGasTerms, photonGas } from './radiation.js';
 import {
   E2_OVER_K, FOUR_PI_OVER_3_NA, GAMMA_MELT, HALF_LN_A2, INV_SQRT_A2, OCP_A3, coulombCorrection, createCoulombTerms,
@@ -358,7 +358,6 @@ export class PointKernel {
   private readonly ionScratch = createIonGasTerms();
   private readonly photonScratch = createPhotonGasTerms();
   private readonly coulombScratch = createCoulombTerms();
-  private singleZ53 = new Float64Array(1);
   private lastLogD = NaN;
   private lastLogT = NaN;
   private lastEta = NaN;
@@ -618,17 +617,47 @@ export function storePoint(res: EvaluateResult, i: number, k: PointKernel, zmax:
     storeComponent(res.components.coulomb, inc.coulomb ? k.coulomb : ZERO_TERMS, i);
   }
   res.warnings[i] = k.warnings(rho, T, res.abar[i], zmax);
-  if (res.maxwell) {
-    const a = rho * rho * tot.dEdRho;
-    const b = tot.P - T * tot.dPdT;
-    res.maxwell.energy[i] = (a - b) / (Math.abs(a) + Math.abs(tot.P) + Math.abs(T * tot.dPdT));
-    const c1 = tot.dSdT;
-    const c2 = tot.dEdT / T;
-    res.maxwell.entropyT[i] = (c1 - c2) / (Math.abs(c1) + Math.abs(c2));
-    const d1 = tot.dSdRho;
-    const d2 = -tot.dPdT / (rho * rho);
-    res.maxwell.entropyRho[i] = (d1 - d2) / (Math.abs(d1) + Math.abs(d2));
+  if (res.maxwell) storeMaxwellResiduals(res.maxwell, i, rho, T, tot.P, tot.dPdT, tot.dEdRho, tot.dEdT, tot.dSdRho, tot.dSdT);
+}
+
+/**
+ * The three Maxwell residuals of point i, each divided by the sum of the magnitudes of its terms:
+ * ρ²∂e/∂ρ = P − T∂P/∂T, ∂s/∂T = (1/T)∂e/∂T, ∂s/∂ρ = −(1/ρ²)∂P/∂T.
+ */
+function storeMaxwellResiduals(mx: MaxwellResidualColumns, i: number, rho: number, T: number, P: number, dPdT: number,
+  dEdRho: number, dEdT: number, dSdRho: number, dSdT: number): void {
+  const a = rho * rho * dEdRho;
+  const b = P - T * dPdT;
+  mx.energy[i] = (a - b) / (Math.abs(a) + Math.abs(P) + Math.abs(T * dPdT));
+  const c1 = dSdT;
+  const c2 = dEdT / T;
+  mx.entropyT[i] = (c1 - c2) / (Math.abs(c1) + Math.abs(c2));
+  const d1 = dSdRho;
+  const d2 = -dPdT / (rho * rho);
+  mx.entropyRho[i] = (d1 - d2) / (Math.abs(d1) + Math.abs(d2));
+}
+
+/**
+ * Gives point i its status and message when its density, temperature or composition is not
+ * accepted (checked in that order) and says whether it did; every method checks its inputs so.
+ */
+function failedInput(res: EvaluateResult, i: number, rho: number, T: number, comp: ResolvedComposition): boolean {
+  let st = densityStatus(rho);
+  if (st !== STATUS.OK) {
+    failPoint(res, i, st, densityMessage(rho));
+    return true;
   }
+  st = temperatureStatus(T);
+  if (st !== STATUS.OK) {
+    failPoint(res, i, st, temperatureMessage(T));
+    return true;
+  }
+  st = compositionStatus(comp, i);
+  if (st !== STATUS.OK) {
+    failPoint(res, i, st, comp.messages[i]);
+    return true;
+  }
+  return false;
 }
 
 const ZERO_TERMS: Terms = newTerms();
@@ -700,22 +729,8 @@ export function evaluate(input: StateInput, options: EvaluateOptions = {}): Eval
   for (let i = 0; i < n; i++) {
     const rho = rhoCol[i];
     const T = tCol[i];
-    let st = densityStatus(rho);
-    if (st !== STATUS.OK) {
-      failPoint(res, i, st, densityMessage(rho));
-      continue;
-    }
-    st = temperatureStatus(T);
-    if (st !== STATUS.OK) {
-      failPoint(res, i, st, temperatureMessage(T));
-      continue;
-    }
-    st = compositionStatus(comp, i);
-    if (st !== STATUS.OK) {
-      failPoint(res, i, st, comp.messages[i]);
-      continue;
-    }
-    st = kernel.compute(rho, T, comp.abar[i], comp.zbar[i], mixture, i);
+    if (failedInput(res, i, rho, T, comp)) continue;
+    const st = kernel.compute(rho, T, comp.abar[i], comp.zbar[i], mixture, i);
     if (st !== STATUS.OK) {
       failPoint(res, i, st, `the electron–positron neutrality solve failed at density ${rho} g/cm³, temperature ${T} K, Ye ${comp.ye[i]}`);
       continue;
@@ -744,8 +759,6 @@ function tableOutsideMessage(table: FreeEnergyTable, rho: number, ye: number, T:
   return `ρ·Ye = ${(rho * ye).toExponential(4)} g/cm³, T = ${T} K is outside the table grid (log10 ρYe ∈ [${g.logDensityYeMin}, ${g.logDensityYeMax}], log10 T ∈ [${g.logTemperatureMin}, ${g.logTemperatureMax}]); not extrapolated`;
 }
 
-const R_ION = AVOGADRO * BOLTZMANN_K;
-const LN_ION_QC = 1.5 * Math.log((ATOMIC_MASS_UNIT * BOLTZMANN_K) / (2 * Math.PI * HBAR * HBAR));
 
 /** This thread's instance of the WebAssembly table loop (created on first use). */
 let tableBatch: TableBatch | null = null;
@@ -753,7 +766,7 @@ let tableBatch: TableBatch | null = null;
 function tableBatchEngine(): TableBatch {
   tableBatch ??= new TableBatch({
     avogadro: AVOGADRO, boltzmannK: BOLTZMANN_K, electronRestEnergy: ELECTRON_REST_ENERGY, radiationA: RADIATION_A,
-    ionGasConstant: R_ION, lnIonQuantumConcentration: LN_ION_QC, speedOfLight2: SPEED_OF_LIGHT * SPEED_OF_LIGHT,
+    ionGasConstant: R_GAS, lnIonQuantumConcentration: LN_QC_UNIT, speedOfLight2: SPEED_OF_LIGHT * SPEED_OF_LIGHT,
     pairZC: PAIR_Z_C, lnKOverMec2: LN_K_OVER_MEC2, lnHalfAvogadro: LN_HALF_AVOGADRO, lnShareFloor: LN_SHARE_FLOOR,
     e2OverK: E2_OVER_K, fourPiOver3Avogadro: FOUR_PI_OVER_3_NA, ocpA3: OCP_A3, invSqrtA2: INV_SQRT_A2, halfLnA2: HALF_LN_A2,
     rydberg: RYDBERG, sahaFactor: PARTIAL_IONIZATION_SAHA_FACTOR, bohrRadius: BOHR_RADIUS,
@@ -808,29 +821,14 @@ function evaluateTableBatch(
       const i = from + j;
       if (st[j] === 0 && reason[i] === 0) continue;
       const rho = rhoCol[i], T = tCol[i];
-      let code = densityStatus(rho);
-      if (code !== STATUS.OK) { failPoint(res, i, code, densityMessage(rho)); continue; }
-      code = temperatureStatus(T);
-      if (code !== STATUS.OK) { failPoint(res, i, code, temperatureMessage(T)); continue; }
-      code = compositionStatus(comp, i);
-      if (code !== STATUS.OK) { failPoint(res, i, code, comp.messages[i]); continue; }
-      if (st[j] === 2) failPoint(res, i, STATUS.TABLE_OUT_OF_RANGE, tableOutsideMessage(table, rho, comp.ye[i], T));
+      if (!failedInput(res, i, rho, T, comp) && st[j] === 2) failPoint(res, i, STATUS.TABLE_OUT_OF_RANGE, tableOutsideMessage(table, rho, comp.ye[i], T));
     }
   }
   const mx = res.maxwell;
   if (mx) {
     for (let i = 0; i < n; i++) {
       if (res.status[i] !== STATUS.OK) continue;
-      const rho = rhoCol[i], T = tCol[i], P = res.pressure[i], PT = res.dPdT[i];
-      const a = rho * rho * res.dEdRho[i];
-      const b = P - T * PT;
-      mx.energy[i] = (a - b) / (Math.abs(a) + Math.abs(P) + Math.abs(T * PT));
-      const c1 = res.dSdT[i];
-      const c2 = res.dEdT[i] / T;
-      mx.entropyT[i] = (c1 - c2) / (Math.abs(c1) + Math.abs(c2));
-      const d1 = res.dSdRho[i];
-      const d2 = -PT / (rho * rho);
-      mx.entropyRho[i] = (d1 - d2) / (Math.abs(d1) + Math.abs(d2));
+      storeMaxwellResiduals(mx, i, rhoCol[i], tCol[i], res.pressure[i], res.dPdT[i], res.dEdRho[i], res.dEdT[i], res.dSdRho[i], res.dSdT[i]);
     }
   }
 }
