@@ -7,14 +7,13 @@
  */
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
-import { startTestGateway } from '../support/gateway.js';
-import { Fixtures, bearer, type TestKey } from '../support/fixtures.js';
+import { bearer, type Fixtures, type TestKey } from '../support/fixtures.js';
 import { graphql } from '../support/api.js';
 import { waitForMail } from '../support/mail.js';
 import { h5 } from '../../gateway/jobs/hdf5.js';
 import { bufferFromFile, withBufferFile } from '../../gateway/jobs/hdf5.js';
 import type { RunningGateway } from '../../gateway/server.js';
-import { assertChecksum, csvColumn, download, parseCsv, uploadJob, waitForJob } from './jobs-helpers.js';
+import { assertChecksum, csvColumn, download, parseCsv, uploadJob, waitForJob, startJobsGateway } from './jobs-helpers.js';
 
 let gateway: RunningGateway;
 let fx: Fixtures;
@@ -23,16 +22,12 @@ let ownerEmail: string;
 
 const CHUNK = 7;
 
+let close: () => Promise<void>;
+
 before(async () => {
-  gateway = await startTestGateway({ JOBS_CHUNK_POINTS: String(CHUNK), JOBS_POLL_SECONDS: '0.5', EOS_POOL_MAX_THREADS: '1' });
-  fx = new Fixtures();
-  key = await fx.keyOnPlan('group', ['eos:evaluate', 'jobs:write']);
-  ownerEmail = (await fx.db('users').where({ id: key.org.ownerId }).first('email')).email;
+  ({ gateway, fx, key, ownerEmail, close } = await startJobsGateway(CHUNK));
 });
-after(async () => {
-  await gateway.close();
-  await fx.close();
-});
+after(() => close());
 
 /** States across the regimes: cold degenerate to hot pair-rich, in the model's domain (20 points). */
 function states(n = 20) {

@@ -1,6 +1,9 @@
 /** Helpers shared by the jobs-*.test.ts and tables-*.test.ts files: uploads, waiting, CSV reading. */
 import assert from 'node:assert/strict';
 import { createHash } from 'node:crypto';
+import { startTestGateway } from '../support/gateway.js';
+import { Fixtures, type TestKey } from '../support/fixtures.js';
+import type { RunningGateway } from '../../gateway/server.js';
 
 export async function uploadJob(base: string, token: string, file: { name: string; content: string | Uint8Array; type?: string }, fields: Record<string, string> = {}, headers: Record<string, string> = {}) {
   const form = new FormData();
@@ -62,4 +65,19 @@ export function csvColumn(csv: { header: string[]; rows: string[][] }, name: str
   const c = csv.header.indexOf(name);
   assert.ok(c >= 0, `column ${name} in ${csv.header.join(',')}`);
   return csv.rows.map((r) => (r[c] === '' ? null : Number(r[c])));
+}
+
+/**
+ * A test gateway whose in-process worker runs batch jobs in chunks of `chunkPoints` (one EOS
+ * thread, 0.5 s polls), and a Group-plan key that may evaluate and write jobs, with its
+ * organisation owner's e-mail (the finished-job mail goes there).
+ */
+export async function startJobsGateway(chunkPoints: number): Promise<{
+  gateway: RunningGateway; fx: Fixtures; key: TestKey & { org: { id: string; ownerId: string } }; ownerEmail: string; close(): Promise<void>;
+}> {
+  const gateway = await startTestGateway({ JOBS_CHUNK_POINTS: String(chunkPoints), JOBS_POLL_SECONDS: '0.5', EOS_POOL_MAX_THREADS: '1' });
+  const fx = new Fixtures();
+  const key = await fx.keyOnPlan('group', ['eos:evaluate', 'jobs:write']);
+  const ownerEmail = (await fx.db('users').where({ id: key.org.ownerId }).first('email')).email;
+  return { gateway, fx, key, ownerEmail, close: async () => { await gateway.close(); await fx.close(); } };
 }

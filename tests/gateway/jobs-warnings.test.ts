@@ -9,8 +9,7 @@
  */
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
-import { startTestGateway } from '../support/gateway.js';
-import { Fixtures, bearer, type TestKey } from '../support/fixtures.js';
+import { bearer, type Fixtures, type TestKey } from '../support/fixtures.js';
 import { graphql } from '../support/api.js';
 import { waitForMail } from '../support/mail.js';
 import { h5, withBufferFile } from '../../gateway/jobs/hdf5.js';
@@ -18,23 +17,19 @@ import { assemble, packColumns, resultsCsv, resultsHdf5, warningSummary, type Re
 import { toView } from '../../gateway/jobs/service.js';
 import type { RunningGateway } from '../../gateway/server.js';
 import { WARNING } from '../../eos/index.js';
-import { csvColumn, download, getJson, parseCsv, uploadJob, waitForJob } from './jobs-helpers.js';
+import { csvColumn, download, getJson, parseCsv, uploadJob, waitForJob, startJobsGateway } from './jobs-helpers.js';
 
 let gateway: RunningGateway;
 let fx: Fixtures;
 let key: TestKey & { org: { id: string; ownerId: string } };
 let ownerEmail: string;
 
+let close: () => Promise<void>;
+
 before(async () => {
-  gateway = await startTestGateway({ JOBS_CHUNK_POINTS: '2', JOBS_POLL_SECONDS: '0.5', EOS_POOL_MAX_THREADS: '1' });
-  fx = new Fixtures();
-  key = await fx.keyOnPlan('group', ['eos:evaluate', 'jobs:write']);
-  ownerEmail = (await fx.db('users').where({ id: key.org.ownerId }).first('email')).email;
+  ({ gateway, fx, key, ownerEmail, close } = await startJobsGateway(2));
 });
-after(async () => {
-  await gateway.close();
-  await fx.close();
-});
+after(() => close());
 
 const IRON = { nuclides: [{ a: 56, z: 26, massFraction: 1 }] };
 // beyond neutron drip; negative pressure; and two ordinary states (5 points → chunks of 2, 2, 1)
