@@ -809,19 +809,20 @@ function evaluateTableBatch(
   for (let from = 0; from < n; from += TABLE_CHUNK) {
     const m = Math.min(TABLE_CHUNK, n - from);
     const out = engine.run(table, from, m, columns, flags, mixture);
-    const v = out.values, stride = out.stride;
-    for (let k = 0; k < OUTPUT_COLUMNS.length; k++) copyColumn(res[OUTPUT_COLUMNS[k]], from, v, k * stride, m);
+    const v = out.values, at = out.valuesAt, stride = out.stride;
+    for (let k = 0; k < OUTPUT_COLUMNS.length; k++) copyColumn(res[OUTPUT_COLUMNS[k]], from, v, at + k * stride, m);
     if (res.breakdown) {
       let k = OUTPUT_COLUMNS.length;
-      for (const c of COMPONENT_NAMES) for (const q of OUTPUT_COMPONENT_COLUMNS) copyColumn(res.components[c][q], from, v, stride * k++, m);
+      for (const c of COMPONENT_NAMES) for (const q of OUTPUT_COMPONENT_COLUMNS) copyColumn(res.components[c][q], from, v, at + stride * k++, m);
     }
-    const w = out.warnings, st = out.status;
-    for (let j = 0; j < m; j++) res.warnings[from + j] = w[j];
+    const bytes = out.bytes, w = out.warningsAt, st = out.statusAt;
+    for (let j = 0; j < m; j++) res.warnings[from + j] = bytes[w + j];
     for (let j = 0; j < m; j++) {
       const i = from + j;
-      if (st[j] === 0 && reason[i] === 0) continue;
+      const code = bytes[st + j];
+      if (code === 0 && reason[i] === 0) continue;
       const rho = rhoCol[i], T = tCol[i];
-      if (!failedInput(res, i, rho, T, comp) && st[j] === 2) failPoint(res, i, STATUS.TABLE_OUT_OF_RANGE, tableOutsideMessage(table, rho, comp.ye[i], T));
+      if (!failedInput(res, i, rho, T, comp) && code === 2) failPoint(res, i, STATUS.TABLE_OUT_OF_RANGE, tableOutsideMessage(table, rho, comp.ye[i], T));
     }
   }
   const mx = res.maxwell;

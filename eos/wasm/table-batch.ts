@@ -19,18 +19,12 @@ export const OUTPUT_COMPONENT_COLUMNS = ['pressure', 'specificEnergy', 'specific
 const COLUMN_COUNT = OUTPUT_COLUMNS.length + 5 * OUTPUT_COMPONENT_COLUMNS.length;
 
 /** The physical constants the module needs, in the order of its setConstants. */
-export interface TableBatchConstants {
-  avogadro: number; boltzmannK: number; electronRestEnergy: number; radiationA: number;
-  ionGasConstant: number; lnIonQuantumConcentration: number; speedOfLight2: number; pairZC: number;
-  lnKOverMec2: number; lnHalfAvogadro: number; lnShareFloor: number; e2OverK: number;
-  fourPiOver3Avogadro: number; ocpA3: number; invSqrtA2: number; halfLnA2: number;
-  rydberg: number; sahaFactor: number; bohrRadius: number;
-}
-const CONSTANT_ORDER: ReadonlyArray<keyof TableBatchConstants> = [
+const CONSTANT_ORDER = [
   'avogadro', 'boltzmannK', 'electronRestEnergy', 'radiationA', 'ionGasConstant', 'lnIonQuantumConcentration', 'speedOfLight2',
   'pairZC', 'lnKOverMec2', 'lnHalfAvogadro', 'lnShareFloor', 'e2OverK', 'fourPiOver3Avogadro', 'ocpA3', 'invSqrtA2', 'halfLnA2',
   'rydberg', 'sahaFactor', 'bohrRadius',
-];
+] as const;
+export type TableBatchConstants = Record<(typeof CONSTANT_ORDER)[number], number>;
 
 /** Flags of evaluateBatch. */
 export const FLAG = Object.freeze({ electrons: 1, positrons: 2, ions: 4, photons: 8, coulomb: 16, relativistic: 32, breakdown: 64 });
@@ -50,14 +44,19 @@ interface Exports {
   evaluateBatch(n: number, stride: number, inp: number, out: number, warn: number, status: number, flags: number, species: number, z53: number, y: number): void;
 }
 
-/** A batch's results, views into the module's memory (valid until the next run). */
+/**
+ * Where a batch's results are: views of the module's whole memory (replaced when it grows; valid
+ * until the next run) and the index of each block in them. One object per instance, reused.
+ */
 export interface TableBatchOutput {
-  /** COLUMN_COUNT blocks of `stride` values (the first n used): OUTPUT_COLUMNS, then the components' columns. */
+  /** COLUMN_COUNT blocks of `stride` values from `valuesAt` (the first n of each used): OUTPUT_COLUMNS, then the components' columns. */
   values: Float64Array;
+  valuesAt: number;
   stride: number;
-  warnings: Uint8Array;
-  /** 0 computed, 1 density or temperature outside the domain, 2 outside the table. */
-  status: Uint8Array;
+  /** n warning bytes from `warningsAt`, n status bytes from `statusAt` (0 computed, 1 density or temperature outside the domain, 2 outside the table). */
+  bytes: Uint8Array;
+  warningsAt: number;
+  statusAt: number;
 }
 
 const align = (x: number) => Math.ceil(x / 64) * 64;
@@ -67,13 +66,16 @@ export class TableBatch {
   private readonly tableBase: number;
   private table: FreeEnergyTable | null = null;
   private batchBase = 0;
+  /** Views of the whole memory, made again only when it grows (a view costs more than a one-point batch's copies). */
+  private f64 = new Float64Array(0);
+  private readonly out: TableBatchOutput = { values: this.f64, valuesAt: 0, stride: 0, bytes: new Uint8Array(0), warningsAt: 0, statusAt: 0 };
 
   constructor(constants: TableBatchConstants) {
     const module = new wasm.Module(Buffer.from(TABLE_BATCH_WASM, 'base64'));
     this.ex = new wasm.Instance(module, { env: { abort: () => { throw new Error('table batch module aborted'); } } }).exports as unknown as Exports;
     const base = align(this.ex.heapBase());
     this.reserve(base + 8 * CONSTANT_ORDER.length);
-    new Float64Array(this.ex.memory.buffer, base, CONSTANT_ORDER.length).set(CONSTANT_ORDER.map((k) => constants[k]));
+    this.f64.set(CONSTANT_ORDER.map((k) => constants[k]), base / 8);
     this.ex.setConstants(base);
     this.tableBase = align(base + 8 * CONSTANT_ORDER.length);
   }
@@ -81,6 +83,10 @@ export class TableBatch {
   private reserve(end: number): void {
     const mem = this.ex.memory;
     if (end > mem.buffer.byteLength) mem.grow(Math.ceil((end - mem.buffer.byteLength) / 65536));
+    if (this.f64.buffer !== mem.buffer) {
+      this.f64 = this.out.values = new Float64Array(mem.buffer);
+      this.out.bytes = new Uint8Array(mem.buffer);
+    }
   }
 
   /** Copies the table's kernel arrays into the module's memory (once per table object). */
@@ -90,10 +96,9 @@ export class TableBatch {
     const pData = this.tableBase, pCold = align(pData + packed.byteLength), pAxis = align(pCold + cold.byteLength);
     this.batchBase = align(pAxis + axis.byteLength);
     this.reserve(this.batchBase);
-    const buf = this.ex.memory.buffer;
-    new Float64Array(buf, pData, packed.length).set(packed);
-    new Float64Array(buf, pCold, cold.length).set(cold);
-    new Float64Array(buf, pAxis, axis.length).set(axis);
+    this.f64.set(packed, pData / 8);
+    this.f64.set(cold, pCold / 8);
+    this.f64.set(axis, pAxis / 8);
     this.ex.setTable(pData, pCold, pAxis, table.nD, table.nT, table.grid.logDensityYeMin, table.grid.pointsPerDecadeDensity);
     this.table = table;
   }
@@ -113,23 +118,22 @@ export class TableBatch {
     const pIn = this.batchBase, pOut = align(pIn + 40 * stride), pZ = align(pOut + 8 * COLUMN_COUNT * stride), pY = align(pZ + 8 * m);
     const pWarn = align(pY + 8 * m * n), pStatus = align(pWarn + n);
     this.reserve(pStatus + n);
-    const buf = this.ex.memory.buffer;
-    const inp = new Float64Array(buf, pIn, 5 * stride);
+    const f64 = this.f64, at = pIn / 8;
     for (let c = 0; c < 5; c++) {
       const col = columns[c];
-      if (n <= 16) for (let i = 0; i < n; i++) inp[c * stride + i] = col[from + i];
-      else inp.set(col.subarray(from, from + n), c * stride);
+      if (n <= 16) for (let i = 0; i < n; i++) f64[at + c * stride + i] = col[from + i];
+      else f64.set(col.subarray(from, from + n), at + c * stride);
     }
     if (mixture !== null) {
-      new Float64Array(buf, pZ, m).set(mixture.z53);
-      new Float64Array(buf, pY, m * n).set(mixture.y.subarray(from * m, (from + n) * m));
+      f64.set(mixture.z53, pZ / 8);
+      f64.set(mixture.y.subarray(from * m, (from + n) * m), pY / 8);
     }
     this.ex.evaluateBatch(n, stride, pIn, pOut, pWarn, pStatus, flags, m, pZ, pY);
-    return {
-      values: new Float64Array(buf, pOut, COLUMN_COUNT * stride),
-      stride,
-      warnings: new Uint8Array(buf, pWarn, n),
-      status: new Uint8Array(buf, pStatus, n),
-    };
+    const out = this.out;
+    out.valuesAt = pOut / 8;
+    out.stride = stride;
+    out.warningsAt = pWarn;
+    out.statusAt = pStatus;
+    return out;
   }
 }
