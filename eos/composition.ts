@@ -143,7 +143,10 @@ export interface ResolvedComposition {
   zmax: Float64Array;
   /** 0 valid, COMPOSITION_OUT_OF_DOMAIN, COMPOSITION_BAD_FRACTIONS. */
   reason: Uint8Array;
-  /** '' for valid points, otherwise what is wrong, with the values. */
+  /**
+   * What is wrong at each point whose reason is not 0, with the values. Sparse: only those points
+   * are set (filling a new array of n strings cost ~30 ns a point, more than a table point's physics).
+   */
   messages: string[];
   /**
    * For nuclide input: species charges and abundances Y = X/A per point (row-major, n × count),
@@ -157,7 +160,7 @@ export interface ResolvedComposition {
 export function resolveComposition(input: CompositionInput, n: number): ResolvedComposition {
   const ye = new Float64Array(n);
   const reason = new Uint8Array(n);
-  const messages: string[] = new Array<string>(n).fill('');
+  const messages: string[] = [];
   if (input === null || typeof input !== 'object') throw new Error('composition must be { abar, zbar } or { nuclides: [...] }');
 
   if (!isNuclidesInput(input)) {
