@@ -52,6 +52,24 @@ export function setTable(data: usize, cold: usize, axis: usize, nd: i32, nt: i32
 // @ts-ignore: decorator
 @inline function D(o: i32): f64 { return load<f64>(tData + (<usize>o << 3)); }
 
+// @ts-ignore: decorator
+@inline function DS(o: i32): v128 { return v128.load64_splat(tData + (<usize>o << 3)); }
+// @ts-ignore: decorator
+@inline function DV(o: i32): v128 { return v128.load(tData + (<usize>o << 3)); }
+// @ts-ignore: decorator
+@inline function mul(a: v128, b: v128): v128 { return f64x2.mul(a, b); }
+// @ts-ignore: decorator
+@inline function add(a: v128, b: v128): v128 { return f64x2.add(a, b); }
+// @ts-ignore: decorator
+@inline function pair(a: f64, b: f64): v128 { return f64x2.replace_lane(f64x2.splat(a), 1, b); }
+// @ts-ignore: decorator
+@inline function lo(v: v128): f64 { return f64x2.extract_lane(v, 0); }
+// @ts-ignore: decorator
+@inline function hi(v: v128): f64 { return f64x2.extract_lane(v, 1); }
+/** Σ of lanes in the order ((a₀ + a₁) + b₀) + b₁. */
+// @ts-ignore: decorator
+@inline function sum4(a: v128, b: v128): f64 { return lo(a) + hi(a) + lo(b) + hi(b); }
+
 // pair-gas results of one point (globals: no memory traffic)
 let pP: f64 = 0, pPT: f64 = 0, pU: f64 = 0, pUD: f64 = 0, pUT: f64 = 0, pS: f64 = 0, pSD: f64 = 0, pST: f64 = 0, pPD: f64 = 0;
 let pEta: f64 = 0, pNe: f64 = 0, pNp: f64 = 0;
@@ -220,34 +238,23 @@ function tablePairGas(d: f64, T: f64, k: i32): void {
   const q01 = q01u * hv, q02 = q02u * hv2, q11 = q11u * hv, q12 = q12u * hv2;
   const r01 = r01u * hv, r02 = r02u * hv2, r11 = r11u * hv, r12 = r12u * hv2;
 
-  let F: f64 = 0, Fx: f64 = 0, Fy: f64 = 0, Fxy: f64 = 0, Fyy: f64 = 0;
+  // lanes (value, ∂/∂x): the x-basis pairs (a, b); the same sums in the same order as the scalar form
+  const c00 = pair(a00, b00d), c01 = pair(a01, b01d), c02 = pair(a02, b02d), c10 = pair(a10, b10d), c11 = pair(a11, b11d), c12 = pair(a12, b12d);
   const oB = oA + nT * STRIDE, oC = oA + STRIDE, oD = oB + STRIDE;
-  {
-    const A0 = D(oA) * a00 + D(oA + 1) * a01 + D(oA + 3) * a02 + D(oB) * a10 + D(oB + 1) * a11 + D(oB + 3) * a12;
-    const A1 = D(oA + 2) * a00 + D(oA + 4) * a01 + D(oA + 6) * a02 + D(oB + 2) * a10 + D(oB + 4) * a11 + D(oB + 6) * a12;
-    const A2 = D(oA + 5) * a00 + D(oA + 7) * a01 + D(oA + 8) * a02 + D(oB + 5) * a10 + D(oB + 7) * a11 + D(oB + 8) * a12;
-    const B0 = D(oA) * b00d + D(oA + 1) * b01d + D(oA + 3) * b02d + D(oB) * b10d + D(oB + 1) * b11d + D(oB + 3) * b12d;
-    const B1 = D(oA + 2) * b00d + D(oA + 4) * b01d + D(oA + 6) * b02d + D(oB + 2) * b10d + D(oB + 4) * b11d + D(oB + 6) * b12d;
-    const B2 = D(oA + 5) * b00d + D(oA + 7) * b01d + D(oA + 8) * b02d + D(oB + 5) * b10d + D(oB + 7) * b11d + D(oB + 8) * b12d;
-    F += A0 * p00 + A1 * p01 + A2 * p02;
-    Fy += A0 * q00 + A1 * q01 + A2 * q02;
-    Fyy += A0 * r00 + A1 * r01 + A2 * r02;
-    Fx += B0 * p00 + B1 * p01 + B2 * p02;
-    Fxy += B0 * q00 + B1 * q01 + B2 * q02;
-  }
-  {
-    const A0 = D(oC) * a00 + D(oC + 1) * a01 + D(oC + 3) * a02 + D(oD) * a10 + D(oD + 1) * a11 + D(oD + 3) * a12;
-    const A1 = D(oC + 2) * a00 + D(oC + 4) * a01 + D(oC + 6) * a02 + D(oD + 2) * a10 + D(oD + 4) * a11 + D(oD + 6) * a12;
-    const A2 = D(oC + 5) * a00 + D(oC + 7) * a01 + D(oC + 8) * a02 + D(oD + 5) * a10 + D(oD + 7) * a11 + D(oD + 8) * a12;
-    const B0 = D(oC) * b00d + D(oC + 1) * b01d + D(oC + 3) * b02d + D(oD) * b10d + D(oD + 1) * b11d + D(oD + 3) * b12d;
-    const B1 = D(oC + 2) * b00d + D(oC + 4) * b01d + D(oC + 6) * b02d + D(oD + 2) * b10d + D(oD + 4) * b11d + D(oD + 6) * b12d;
-    const B2 = D(oC + 5) * b00d + D(oC + 7) * b01d + D(oC + 8) * b02d + D(oD + 5) * b10d + D(oD + 7) * b11d + D(oD + 8) * b12d;
-    F += A0 * p10 + A1 * p11 + A2 * p12;
-    Fy += A0 * q10 + A1 * q11 + A2 * q12;
-    Fyy += A0 * r10 + A1 * r11 + A2 * r12;
-    Fx += B0 * p10 + B1 * p11 + B2 * p12;
-    Fxy += B0 * q10 + B1 * q11 + B2 * q12;
-  }
+  let V: v128, W: v128, X: v128;
+  V = add(add(add(add(add(mul(DS(oA), c00), mul(DS(oA + 1), c01)), mul(DS(oA + 3), c02)), mul(DS(oB), c10)), mul(DS(oB + 1), c11)), mul(DS(oB + 3), c12));
+  W = add(add(add(add(add(mul(DS(oA + 2), c00), mul(DS(oA + 4), c01)), mul(DS(oA + 6), c02)), mul(DS(oB + 2), c10)), mul(DS(oB + 4), c11)), mul(DS(oB + 6), c12));
+  X = add(add(add(add(add(mul(DS(oA + 5), c00), mul(DS(oA + 7), c01)), mul(DS(oA + 8), c02)), mul(DS(oB + 5), c10)), mul(DS(oB + 7), c11)), mul(DS(oB + 8), c12));
+  let G0 = add(add(mul(V, f64x2.splat(p00)), mul(W, f64x2.splat(p01))), mul(X, f64x2.splat(p02)));
+  let G1 = add(add(mul(V, f64x2.splat(q00)), mul(W, f64x2.splat(q01))), mul(X, f64x2.splat(q02)));
+  let G2 = add(add(mul(V, f64x2.splat(r00)), mul(W, f64x2.splat(r01))), mul(X, f64x2.splat(r02)));
+  V = add(add(add(add(add(mul(DS(oC), c00), mul(DS(oC + 1), c01)), mul(DS(oC + 3), c02)), mul(DS(oD), c10)), mul(DS(oD + 1), c11)), mul(DS(oD + 3), c12));
+  W = add(add(add(add(add(mul(DS(oC + 2), c00), mul(DS(oC + 4), c01)), mul(DS(oC + 6), c02)), mul(DS(oD + 2), c10)), mul(DS(oD + 4), c11)), mul(DS(oD + 6), c12));
+  X = add(add(add(add(add(mul(DS(oC + 5), c00), mul(DS(oC + 7), c01)), mul(DS(oC + 8), c02)), mul(DS(oD + 5), c10)), mul(DS(oD + 7), c11)), mul(DS(oD + 8), c12));
+  G0 = add(G0, add(add(mul(V, f64x2.splat(p10)), mul(W, f64x2.splat(p11))), mul(X, f64x2.splat(p12))));
+  G1 = add(G1, add(add(mul(V, f64x2.splat(q10)), mul(W, f64x2.splat(q11))), mul(X, f64x2.splat(q12))));
+  G2 = add(G2, add(add(mul(V, f64x2.splat(r10)), mul(W, f64x2.splat(r11))), mul(X, f64x2.splat(r12))));
+  let F = lo(G0), Fx = hi(G0), Fy = lo(G1), Fxy = hi(G1), Fyy = lo(G2);
   const Hu = Fx * invHu, Hv = Fy * invHv;
   const Huv = Fxy * invHu * invHv, Hvv = Fyy * invHv * invHv;
   F = T * F;
@@ -281,21 +288,19 @@ function tablePairGas(d: f64, T: f64, k: i32): void {
   const e0d = 6 * x2 - 6 * x, e1d = 3 * x2 - 4 * x + 1, e2d = -e0d, e3d = 3 * m2 - 4 * mx + 1;
   const f0 = 2 * y3 - 3 * y2 + 1, f1 = (y3 - 2 * y2 + y) * hv, f2 = 1 - f0, f3 = -(n3 - 2 * n2 + my) * hv;
   const f0d = 6 * y2 - 6 * y, f1d = (3 * y2 - 4 * y + 1) * hv, f2d = -f0d, f3d = (3 * n2 - 4 * my + 1) * hv;
+  const f0v = f64x2.splat(f0), f1v = f64x2.splat(f1), f2v = f64x2.splat(f2), f3v = f64x2.splat(f3);
+  const E01 = pair(e0, e1), E23 = pair(e2, e3);
   {
     const q = 9;
-    const A = D(oA + q) * f0 + D(oA + q + 2) * f1, Ax = D(oA + q + 1) * f0 + D(oA + q + 3) * f1;
-    const B = D(oB + q) * f0 + D(oB + q + 2) * f1, Bx = D(oB + q + 1) * f0 + D(oB + q + 3) * f1;
-    const C = D(oC + q) * f2 + D(oC + q + 2) * f3, Cx = D(oC + q + 1) * f2 + D(oC + q + 3) * f3;
-    const Dd = D(oD + q) * f2 + D(oD + q + 2) * f3, Dx = D(oD + q + 1) * f2 + D(oD + q + 3) * f3;
-    pEta = (A + C) * e0 + (Ax + Cx) * e1 + (B + Dd) * e2 + (Bx + Dx) * e3 + kp0;
+    const S1 = add(add(mul(DV(oA + q), f0v), mul(DV(oA + q + 2), f1v)), add(mul(DV(oC + q), f2v), mul(DV(oC + q + 2), f3v)));
+    const S2 = add(add(mul(DV(oB + q), f0v), mul(DV(oB + q + 2), f1v)), add(mul(DV(oD + q), f2v), mul(DV(oD + q + 2), f3v)));
+    pEta = sum4(mul(S1, E01), mul(S2, E23)) + kp0;
   }
   {
     const q = 13;
-    const A = D(oA + q) * f0 + D(oA + q + 2) * f1, Ax = D(oA + q + 1) * f0 + D(oA + q + 3) * f1;
-    const B = D(oB + q) * f0 + D(oB + q + 2) * f1, Bx = D(oB + q + 1) * f0 + D(oB + q + 3) * f1;
-    const C = D(oC + q) * f2 + D(oC + q + 2) * f3, Cx = D(oC + q + 1) * f2 + D(oC + q + 3) * f3;
-    const Dd = D(oD + q) * f2 + D(oD + q + 2) * f3, Dx = D(oD + q + 1) * f2 + D(oD + q + 3) * f3;
-    const lnEtaU = (A + C) * e0 + (Ax + Cx) * e1 + (B + Dd) * e2 + (Bx + Dx) * e3 + kp1;
+    const S1 = add(add(mul(DV(oA + q), f0v), mul(DV(oA + q + 2), f1v)), add(mul(DV(oC + q), f2v), mul(DV(oC + q + 2), f3v)));
+    const S2 = add(add(mul(DV(oB + q), f0v), mul(DV(oB + q + 2), f1v)), add(mul(DV(oD + q), f2v), mul(DV(oD + q + 2), f3v)));
+    const lnEtaU = sum4(mul(S1, E01), mul(S2, E23)) + kp1;
     pPD = AVOGADRO * BOLTZMANN_K * T * Math.exp(lnEtaU);
   }
   if (kp11 < -30) {
@@ -304,19 +309,18 @@ function tablePairGas(d: f64, T: f64, k: i32): void {
     qP = 0; qPD = 0; qPT = 0;
     qU = 0; qUD = 0; qUT = 0;
     qS = 0; qSD = 0; qST = 0;
-  } else for (let s = 0; s < 4; s++) {
+  } else {
+  const f0dv = f64x2.splat(f0d), f1dv = f64x2.splat(f1d), f2dv = f64x2.splat(f2d), f3dv = f64x2.splat(f3d);
+  const E01d = pair(e0d, e1d), E23d = pair(e2d, e3d);
+  for (let s = 0; s < 4; s++) {
     const q = 17 + 4 * s;
-    const A = D(oA + q) * f0 + D(oA + q + 2) * f1, Ax = D(oA + q + 1) * f0 + D(oA + q + 3) * f1;
-    const B = D(oB + q) * f0 + D(oB + q + 2) * f1, Bx = D(oB + q + 1) * f0 + D(oB + q + 3) * f1;
-    const C = D(oC + q) * f2 + D(oC + q + 2) * f3, Cx = D(oC + q + 1) * f2 + D(oC + q + 3) * f3;
-    const Dd = D(oD + q) * f2 + D(oD + q + 2) * f3, Dx = D(oD + q + 1) * f2 + D(oD + q + 3) * f3;
-    const Ay = D(oA + q) * f0d + D(oA + q + 2) * f1d, Axy = D(oA + q + 1) * f0d + D(oA + q + 3) * f1d;
-    const By = D(oB + q) * f0d + D(oB + q + 2) * f1d, Bxy = D(oB + q + 1) * f0d + D(oB + q + 3) * f1d;
-    const Cy = D(oC + q) * f2d + D(oC + q + 2) * f3d, Cxy = D(oC + q + 1) * f2d + D(oC + q + 3) * f3d;
-    const Dy = D(oD + q) * f2d + D(oD + q + 2) * f3d, Dxy = D(oD + q + 1) * f2d + D(oD + q + 3) * f3d;
-    const L = (A + C) * e0 + (Ax + Cx) * e1 + (B + Dd) * e2 + (Bx + Dx) * e3 + kp2;
-    const Lu = ((A + C) * e0d + (Ax + Cx) * e1d + (B + Dd) * e2d + (Bx + Dx) * e3d) * invHu + kp3;
-    const Lv = ((Ay + Cy) * e0 + (Axy + Cxy) * e1 + (By + Dy) * e2 + (Bxy + Dxy) * e3) * invHv + kp4;
+    const S1 = add(add(mul(DV(oA + q), f0v), mul(DV(oA + q + 2), f1v)), add(mul(DV(oC + q), f2v), mul(DV(oC + q + 2), f3v)));
+    const S2 = add(add(mul(DV(oB + q), f0v), mul(DV(oB + q + 2), f1v)), add(mul(DV(oD + q), f2v), mul(DV(oD + q + 2), f3v)));
+    const T1 = add(add(mul(DV(oA + q), f0dv), mul(DV(oA + q + 2), f1dv)), add(mul(DV(oC + q), f2dv), mul(DV(oC + q + 2), f3dv)));
+    const T2 = add(add(mul(DV(oB + q), f0dv), mul(DV(oB + q + 2), f1dv)), add(mul(DV(oD + q), f2dv), mul(DV(oD + q + 2), f3dv)));
+    const L = sum4(mul(S1, E01), mul(S2, E23)) + kp2;
+    const Lu = sum4(mul(S1, E01d), mul(S2, E23d)) * invHu + kp3;
+    const Lv = sum4(mul(T1, E01), mul(T2, E23)) * invHv + kp4;
     const ex = L - LN_SHARE_FLOOR < 1e-6 ? SHARE_FLOOR : Math.exp(L);
     let r = ex - SHARE_FLOOR;
     if (r < 1e-290) r = 0;
@@ -339,6 +343,7 @@ function tablePairGas(d: f64, T: f64, k: i32): void {
       qSD = rd * pS + r * pSD;
       qST = rT * pS + r * pST;
     }
+  }
   }
 }
 
