@@ -16,7 +16,7 @@
 let AVOGADRO: f64 = 0, BOLTZMANN_K: f64 = 0, ELECTRON_REST_ENERGY: f64 = 0, RADIATION_A: f64 = 0;
 let R_ION: f64 = 0, LN_ION_QC: f64 = 0, C2: f64 = 0, PAIR_Z_C: f64 = 0, LN_K_OVER_MEC2: f64 = 0, LN_HALF_AVOGADRO: f64 = 0;
 let LN_SHARE_FLOOR: f64 = 0, E2_OVER_K: f64 = 0, FOUR_PI_OVER_3_NA: f64 = 0, OCP_A3: f64 = 0, INV_SQRT_A2: f64 = 0, HALF_LN_A2: f64 = 0;
-let RYDBERG: f64 = 0, SAHA_FACTOR: f64 = 0, BOHR_RADIUS: f64 = 0;
+let RYDBERG: f64 = 0, SAHA_FACTOR: f64 = 0, BOHR_RADIUS: f64 = 0, LN_FOUR_PI_OVER_3_NA: f64 = 0;
 
 const SHARE_FLOOR: f64 = 1e-30;
 const PAIR_TAPER_BETA: f64 = 0.7;
@@ -36,6 +36,7 @@ export function setConstants(p: usize): void {
   LN_K_OVER_MEC2 = load<f64>(p, 64); LN_HALF_AVOGADRO = load<f64>(p, 72); LN_SHARE_FLOOR = load<f64>(p, 80); E2_OVER_K = load<f64>(p, 88);
   FOUR_PI_OVER_3_NA = load<f64>(p, 96); OCP_A3 = load<f64>(p, 104); INV_SQRT_A2 = load<f64>(p, 112); HALF_LN_A2 = load<f64>(p, 120);
   RYDBERG = load<f64>(p, 128); SAHA_FACTOR = load<f64>(p, 136); BOHR_RADIUS = load<f64>(p, 144);
+  LN_FOUR_PI_OVER_3_NA = Math.log(FOUR_PI_OVER_3_NA);
 }
 
 // table
@@ -375,6 +376,7 @@ function minusLog1p(q: f64): f64 {
   return q - Math.log1p(q);
 }
 let ocpU: f64 = 0, ocpC: f64 = 0, ocpS: f64 = 0;
+let lnZbar: f64 = 0, lnZbarOf: f64 = 0;
 function ocpLiquid(G: f64): void {
   const A1 = OCP_A1, A2 = OCP_A2, A3 = OCP_A3, B1 = OCP_B1, B2 = OCP_B2, B3 = OCP_B3, B4 = OCP_B4;
   const sG = Math.sqrt(G);
@@ -481,16 +483,18 @@ export function evaluateBatch(n: i32, stride: i32, inp: usize, out: usize, warn:
       const phS = (4 * aT3) / (3 * rho), phSr = -phS * iRho, phST = (4 * RADIATION_A * T * T) * iRho;
       // Coulomb (coulomb.ts coulombCorrection): one species of charge Zbar, or the linear mixing rule
       let U: f64 = 0, Cc: f64 = 0, Sc: f64 = 0, zExp: f64, G: f64;
+      // ln(ρ Ye) from the cell lookup: cube roots as exp(ln/3) (a cube root cost ~4 exps here)
+      const lnRhoYe = load<f64>(scratch + (<usize>((i - b0) * SLOT) << 3), 32);
       if (species == 0) {
-        // Γ = Zbar^{5/3} Γ_e with one cube root: (e²/kT)(4π/3 N_A ρ Ye Zbar⁵)^{1/3}
-        const z2 = zbar * zbar;
-        G = E2_OVER_K * iT * Math.cbrt(FOUR_PI_OVER_3_NA * rho * ye * z2 * z2 * zbar);
+        // Γ = Zbar^{5/3} Γ_e = (e²/kT)(4π/3 N_A ρ Ye Zbar⁵)^{1/3}; ln Zbar kept while Zbar repeats
+        if (zbar != lnZbarOf) { lnZbarOf = zbar; lnZbar = Math.log(zbar); }
+        G = E2_OVER_K * iT * Math.exp((lnRhoYe + LN_FOUR_PI_OVER_3_NA + 5 * lnZbar) * (1.0 / 3));
         ocpLiquid(G);
         const Y = iAbar;
         U = Y * ocpU; Cc = Y * ocpC; Sc = Y * ocpS;
         zExp = 2;
       } else {
-        const ge = (E2_OVER_K * iT) * Math.cbrt(FOUR_PI_OVER_3_NA * rho * ye);
+        const ge = (E2_OVER_K * iT) * Math.exp((lnRhoYe + LN_FOUR_PI_OVER_3_NA) * (1.0 / 3));
         const base = y + ((<usize>i * <usize>species) << 3);
         let z53avg: f64 = 0;
         for (let j = 0; j < species; j++) {
@@ -576,8 +580,9 @@ export function evaluateBatch(n: i32, stride: i32, inp: usize, out: usize, warn:
       let w: i32 = 0;
       // state.ts partialIonizationLikely, NEUTRON_DRIP_DENSITY, GAMMA_MELT and the stability tests
       if (BOLTZMANN_K * T < (zmax * zmax * RYDBERG) / SAHA_FACTOR) {
-        const ionSphere = Math.cbrt((3 * abar) / (4 * Math.PI * rho * AVOGADRO));
-        if (ionSphere > BOHR_RADIUS / zmax) w |= 1;
+        // ion-sphere radius > a₀/Zmax, compared as cubes
+        const a0z = BOHR_RADIUS / zmax;
+        if ((3 * abar) / (4 * Math.PI * rho * AVOGADRO) > a0z * a0z * a0z) w |= 1;
       }
       if (rho > NEUTRON_DRIP_DENSITY) w |= 2;
       if (G > GAMMA_MELT) w |= 4;
