@@ -41,11 +41,12 @@ export function setConstants(p: usize): void {
 
 // table
 let tData: usize = 0, tCold: usize = 0, nD: i32 = 0, nT: i32 = 0;
-let gLogDMin: f64 = 0, gPpdD: f64 = 0;
+let gLogDMin: f64 = 0, gPpdD: f64 = 0, invHu: f64 = 0;
 let ax0: f64 = 0, ax1: f64 = 0, ax2: f64 = 0, ax3: f64 = 0, ax4: f64 = 0, ax5: f64 = 0, ax6: f64 = 0, ax7: f64 = 0, ax8: f64 = 0, ax9: f64 = 0;
 
 export function setTable(data: usize, cold: usize, axis: usize, nd: i32, nt: i32, logDMin: f64, ppdD: f64): void {
   tData = data; tCold = cold; nD = nd; nT = nt; gLogDMin = logDMin; gPpdD = ppdD;
+  invHu = ppdD / Math.LN10; // 1/h_u, h_u the node spacing in ln(ρYe)
   ax0 = load<f64>(axis); ax1 = load<f64>(axis, 8); ax2 = load<f64>(axis, 16); ax3 = load<f64>(axis, 24); ax4 = load<f64>(axis, 32);
   ax5 = load<f64>(axis, 40); ax6 = load<f64>(axis, 48); ax7 = load<f64>(axis, 56); ax8 = load<f64>(axis, 64); ax9 = load<f64>(axis, 72);
 }
@@ -61,6 +62,13 @@ export function setTable(data: usize, cold: usize, axis: usize, nd: i32, nt: i32
 @inline function mul(a: v128, b: v128): v128 { return f64x2.mul(a, b); }
 // @ts-ignore: decorator
 @inline function add(a: v128, b: v128): v128 { return f64x2.add(a, b); }
+// @ts-ignore: decorator
+@inline function sub(a: v128, b: v128): v128 { return f64x2.sub(a, b); }
+// @ts-ignore: decorator
+@inline function K(c: f64): v128 { return f64x2.splat(c); }
+/** (a₀, b₀) */
+// @ts-ignore: decorator
+@inline function lows(a: v128, b: v128): v128 { return v128.shuffle<f64>(a, b, 0, 2); }
 // @ts-ignore: decorator
 @inline function pair(a: f64, b: f64): v128 { return f64x2.replace_lane(f64x2.splat(a), 1, b); }
 // @ts-ignore: decorator
@@ -80,17 +88,44 @@ let kp0: f64 = 0, kp1: f64 = 0, kp2: f64 = 0, kp3: f64 = 0, kp4: f64 = 0, kp5: f
 
 function kernelPairParts(d: f64, T: f64, u: f64, v: f64): bool {
   const beta = (BOLTZMANN_K * T) / ELECTRON_REST_ENERGY;
-  const ib = 1 / beta;
   const S = 1 + beta * (15.0 / 8 + beta * (105.0 / 128));
   const S1 = beta * (15.0 / 8 + beta * (105.0 / 64));
+  const Q = f64x2.div(pair(1, S1), pair(beta, S)); // 1/β, S1/S
+  const ib = lo(Q), s1s = hi(Q);
   const lnS = Math.log(S);
   const lnBeta = v + LN_K_OVER_MEC2;
   const Lr = PAIR_Z_C + 1.5 * lnBeta + lnS;
-  const L1r = 1.5 + S1 / S;
+  const L1r = 1.5 + s1s;
   const L1 = L1r + ib;
   const lnHalfN0 = u + LN_HALF_AVOGADRO;
   const lamR = lnHalfN0 - Lr;
   const lam = lamR + ib;
+  // the taper first: its chain does not wait for the one below (the processor overlaps them)
+  let tapered = false;
+  if (beta >= 0.01) {
+    const bt = beta / PAIR_TAPER_BETA;
+    const b4 = bt * bt * bt;
+    const lamT = lam + b4;
+    if (lamT <= 40) {
+      tapered = true;
+      const S2 = beta * beta * (105.0 / 64);
+      const LT1 = L1 - PAIR_TAPER_POWER * b4;
+      const LT2 = -ib + s1s + S2 / S - s1s * s1s - PAIR_TAPER_POWER * PAIR_TAPER_POWER * b4;
+      const a = Math.exp(lamT);
+      const r = a > 1e8 ? a * (1 + 0.5 / (a * a)) : Math.sqrt(1 + a * a);
+      const QP = f64x2.div(pair(1, -1), pair(a * (a + r), a * r));
+      const q = lo(QP);
+      const P0 = Math.log1p(0.5 * q) - q;
+      const P1 = q;
+      const P2 = hi(QP);
+      const E = BOLTZMANN_K * AVOGADRO * T;
+      kp5 = E * P0;
+      kp6 = E * P1;
+      kp7 = E * (P0 - LT1 * P1);
+      kp9 = E * (P1 - LT1 * P2);
+      kp10 = E * (P0 - 2 * LT1 * P1 - LT2 * P1 + LT1 * LT1 * P2);
+    }
+  }
   let etaB: f64, g1: f64, B: f64;
   if (lam > 20) {
     const e2 = Math.exp(-2 * lam);
@@ -121,28 +156,7 @@ function kernelPairParts(d: f64, T: f64, u: f64, v: f64): bool {
     kp3 = sig * rhoU;
     kp4 = sig * rhoV;
   }
-  if (beta < 0.01) return false;
-  const bt = beta / PAIR_TAPER_BETA;
-  const b4 = bt * bt * bt;
-  const lamT = lam + b4;
-  if (lamT > 40) return false;
-  const S2 = beta * beta * (105.0 / 64);
-  const LT1 = L1 - PAIR_TAPER_POWER * b4;
-  const s1s = S1 / S;
-  const LT2 = -ib + S1 / S + S2 / S - s1s * s1s - PAIR_TAPER_POWER * PAIR_TAPER_POWER * b4;
-  const a = Math.exp(lamT);
-  const r = a > 1e8 ? a * (1 + 0.5 / (a * a)) : Math.sqrt(1 + a * a);
-  const q = 1 / (a * (a + r));
-  const P0 = Math.log1p(0.5 * q) - q;
-  const P1 = q;
-  const P2 = -1 / (a * r);
-  const E = BOLTZMANN_K * AVOGADRO * T;
-  kp5 = E * P0;
-  kp6 = E * P1;
-  kp7 = E * (P0 - LT1 * P1);
-  kp9 = E * (P1 - LT1 * P2);
-  kp10 = E * (P0 - 2 * LT1 * P1 - LT2 * P1 + LT1 * LT1 * P2);
-  return true;
+  return tapered;
 }
 
 // Points are taken in blocks: pass 1 locates every point's table cell (into a scratch slot) and
@@ -180,7 +194,6 @@ function locate(d: f64, T: f64, k: i32): i32 {
   const slot = scratch + (<usize>(k * SLOT) << 3);
   const u = Math.log(d);
   const v = Math.log(T);
-  const invHu = gPpdD / Math.LN10;
   const fx = (u - gLogDMin * Math.LN10) * invHu;
   const nA = ax5, nB = ax6, nT1 = ax7;
   let fy = (v - ax0) * ax3;
@@ -217,21 +230,27 @@ function tablePairGas(d: f64, T: f64, k: i32): void {
   const x = load<f64>(slot, 16), y = load<f64>(slot, 24);
   const u = load<f64>(slot, 32), v = load<f64>(slot, 40);
   const invHv = load<f64>(slot, 48), hv = load<f64>(slot, 56);
-  const invHu = gPpdD / Math.LN10;
   const mx = 1 - x;
   const my = 1 - y;
-  const x2 = x * x, x3 = x2 * x, x4 = x3 * x, x5 = x4 * x;
-  const m2 = mx * mx, m3 = m2 * mx, m4 = m3 * mx, m5 = m4 * mx;
-  const a00 = 1 - 10 * x3 + 15 * x4 - 6 * x5, a01 = x - 6 * x3 + 8 * x4 - 3 * x5, a02 = 0.5 * (x2 - 3 * x3 + 3 * x4 - x5);
-  const a10 = 1 - 10 * m3 + 15 * m4 - 6 * m5, a11 = -(mx - 6 * m3 + 8 * m4 - 3 * m5), a12 = 0.5 * (m2 - 3 * m3 + 3 * m4 - m5);
-  const b00d = -30 * x2 + 60 * x3 - 30 * x4, b01d = 1 - 18 * x2 + 32 * x3 - 15 * x4, b02d = 0.5 * (2 * x - 9 * x2 + 12 * x3 - 5 * x4);
-  const b10d = 30 * m2 - 60 * m3 + 30 * m4, b11d = 1 - 18 * m2 + 32 * m3 - 15 * m4, b12d = -0.5 * (2 * mx - 9 * m2 + 12 * m3 - 5 * m4);
-  const y2 = y * y, y3 = y2 * y, y4 = y3 * y, y5 = y4 * y;
-  const n2 = my * my, n3 = n2 * my, n4 = n3 * my, n5 = n4 * my;
-  const p00 = 1 - 10 * y3 + 15 * y4 - 6 * y5, p01u = y - 6 * y3 + 8 * y4 - 3 * y5, p02u = 0.5 * (y2 - 3 * y3 + 3 * y4 - y5);
-  const p10 = 1 - 10 * n3 + 15 * n4 - 6 * n5, p11u = -(my - 6 * n3 + 8 * n4 - 3 * n5), p12u = 0.5 * (n2 - 3 * n3 + 3 * n4 - n5);
-  const q00 = -30 * y2 + 60 * y3 - 30 * y4, q01u = 1 - 18 * y2 + 32 * y3 - 15 * y4, q02u = 0.5 * (2 * y - 9 * y2 + 12 * y3 - 5 * y4);
-  const q10 = 30 * n2 - 60 * n3 + 30 * n4, q11u = 1 - 18 * n2 + 32 * n3 - 15 * n4, q12u = -0.5 * (2 * my - 9 * n2 + 12 * n3 - 5 * n4);
+  // the quintic Hermite basis of x and of y in the two lanes (the same polynomials, the same order of operations)
+  const Z = pair(x, y), Z2 = mul(Z, Z), Z3 = mul(Z2, Z), Z4 = mul(Z3, Z), Z5 = mul(Z4, Z);
+  const M = pair(mx, my), M2 = mul(M, M), M3 = mul(M2, M), M4 = mul(M3, M), M5 = mul(M4, M);
+  const A00 = sub(add(sub(K(1), mul(K(10), Z3)), mul(K(15), Z4)), mul(K(6), Z5));
+  const A01 = sub(add(sub(Z, mul(K(6), Z3)), mul(K(8), Z4)), mul(K(3), Z5));
+  const A02 = mul(K(0.5), sub(add(sub(Z2, mul(K(3), Z3)), mul(K(3), Z4)), Z5));
+  const A10 = sub(add(sub(K(1), mul(K(10), M3)), mul(K(15), M4)), mul(K(6), M5));
+  const A11 = f64x2.neg(sub(add(sub(M, mul(K(6), M3)), mul(K(8), M4)), mul(K(3), M5)));
+  const A12 = mul(K(0.5), sub(add(sub(M2, mul(K(3), M3)), mul(K(3), M4)), M5));
+  const B00 = sub(add(mul(K(-30), Z2), mul(K(60), Z3)), mul(K(30), Z4));
+  const B01 = sub(add(sub(K(1), mul(K(18), Z2)), mul(K(32), Z3)), mul(K(15), Z4));
+  const B02 = mul(K(0.5), sub(add(sub(mul(K(2), Z), mul(K(9), Z2)), mul(K(12), Z3)), mul(K(5), Z4)));
+  const B10 = add(sub(mul(K(30), M2), mul(K(60), M3)), mul(K(30), M4));
+  const B11 = sub(add(sub(K(1), mul(K(18), M2)), mul(K(32), M3)), mul(K(15), M4));
+  const B12 = mul(K(-0.5), sub(add(sub(mul(K(2), M), mul(K(9), M2)), mul(K(12), M3)), mul(K(5), M4)));
+  const p00 = hi(A00), p01u = hi(A01), p02u = hi(A02), p10 = hi(A10), p11u = hi(A11), p12u = hi(A12);
+  const q00 = hi(B00), q01u = hi(B01), q02u = hi(B02), q10 = hi(B10), q11u = hi(B11), q12u = hi(B12);
+  const x2 = lo(Z2), x3 = lo(Z3), m2 = lo(M2), m3 = lo(M3);
+  const y2 = hi(Z2), y3 = hi(Z3), n2 = hi(M2), n3 = hi(M3);
   const r00 = -60 * y + 180 * y2 - 120 * y3, r01u = -36 * y + 96 * y2 - 60 * y3, r02u = 0.5 * (2 - 18 * y + 36 * y2 - 20 * y3);
   const r10 = -60 * my + 180 * n2 - 120 * n3, r11u = -(-36 * my + 96 * n2 - 60 * n3), r12u = 0.5 * (2 - 18 * my + 36 * n2 - 20 * n3);
   const hv2 = hv * hv;
@@ -240,7 +259,7 @@ function tablePairGas(d: f64, T: f64, k: i32): void {
   const r01 = r01u * hv, r02 = r02u * hv2, r11 = r11u * hv, r12 = r12u * hv2;
 
   // lanes (value, ∂/∂x): the x-basis pairs (a, b); the same sums in the same order as the scalar form
-  const c00 = pair(a00, b00d), c01 = pair(a01, b01d), c02 = pair(a02, b02d), c10 = pair(a10, b10d), c11 = pair(a11, b11d), c12 = pair(a12, b12d);
+  const c00 = lows(A00, B00), c01 = lows(A01, B01), c02 = lows(A02, B02), c10 = lows(A10, B10), c11 = lows(A11, B11), c12 = lows(A12, B12);
   const oB = oA + nT * STRIDE, oC = oA + STRIDE, oD = oB + STRIDE;
   let V: v128, W: v128, X: v128;
   V = add(add(add(add(add(mul(DS(oA), c00), mul(DS(oA + 1), c01)), mul(DS(oA + 3), c02)), mul(DS(oB), c10)), mul(DS(oB + 1), c11)), mul(DS(oB + 3), c12));
@@ -265,6 +284,8 @@ function tablePairGas(d: f64, T: f64, k: i32): void {
   let Fvv = Fv + T * (Hv + Hvv);
   {
     const c0 = tCold + (<usize>(3 * i) << 3);
+    const a00 = lo(A00), a01 = lo(A01), a02 = lo(A02), a10 = lo(A10), a11 = lo(A11), a12 = lo(A12);
+    const b00d = lo(B00), b01d = lo(B01), b02d = lo(B02), b10d = lo(B10), b11d = lo(B11), b12d = lo(B12);
     F += load<f64>(c0) * a00 + load<f64>(c0, 8) * a01 + load<f64>(c0, 16) * a02 + load<f64>(c0, 24) * a10 + load<f64>(c0, 32) * a11 + load<f64>(c0, 40) * a12;
     Fu += (load<f64>(c0) * b00d + load<f64>(c0, 8) * b01d + load<f64>(c0, 16) * b02d + load<f64>(c0, 24) * b10d + load<f64>(c0, 32) * b11d + load<f64>(c0, 40) * b12d) * invHu;
   }
@@ -379,11 +400,13 @@ let ocpU: f64 = 0, ocpC: f64 = 0, ocpS: f64 = 0;
 let lnZbar: f64 = 0, lnZbarOf: f64 = 0;
 function ocpLiquid(G: f64): void {
   const A1 = OCP_A1, A2 = OCP_A2, A3 = OCP_A3, B1 = OCP_B1, B2 = OCP_B2, B3 = OCP_B3, B4 = OCP_B4;
-  const sG = Math.sqrt(G);
+  // square roots and reciprocals two lanes at a time (each lane rounds as the scalar operation)
+  const R = f64x2.sqrt(pair(G, A2 + G));
+  const sG = lo(R), sA = hi(R);
   const G32 = G * sG;
   const G2 = G * G;
-  const sA = Math.sqrt(A2 + G);
-  const iA = 1 / sA, i1 = 1 / (1 + G), i2 = 1 / (B2 + G), i4 = 1 / (B4 + G2);
+  const I1 = f64x2.div(K(1), pair(sA, 1 + G)), I2 = f64x2.div(K(1), pair(B2 + G, B4 + G2));
+  const iA = lo(I1), i1 = hi(I1), i2 = lo(I2), i4 = hi(I2);
   const u = G32 * (A1 * iA + A3 * i1) + B1 * G2 * i2 + B3 * G2 * i4;
   const c =
     -0.5 * A1 * A2 * G32 * iA * iA * iA +
