@@ -14,7 +14,7 @@ import { Fixtures, type TestKey } from '../support/fixtures.js';
 import { expectProblem, postJson } from '../support/api.js';
 import { Client, makeOrganisation, makeUser, type TestUser } from '../support/accounts.js';
 import { readYaml, SCHEMA_DIR } from '../../gateway/docs/document.js';
-import { periodStart } from '../../gateway/usage/meter.js';
+import { FLUSH_INTERVAL_MS, periodStart } from '../../gateway/usage/meter.js';
 import type { RunningGateway } from '../../gateway/server.js';
 
 let gateway: RunningGateway;
@@ -238,6 +238,15 @@ describe('GraphQL', () => {
   const LIST = `{ operatorOrganisations { periodStart items { id plan limits { pointsPerMonth requestsPerSecond maxBatch tableBuildsPerMonth } planLimits { pointsPerMonth } override { maxBatch tableBuildsUnlimited reason setByEmail } usage { points errors recentErrors quotaFraction } } } }`;
 
   test('the list answers as REST does', async () => {
+    // the meter writes usage every FLUSH_INTERVAL_MS: wait until the requests billed by earlier tests
+    // are written (two reads a flush apart agree), or the two reads below may straddle a flush
+    let settled = -1;
+    for (let i = 0; i < 20; i++) {
+      const points = (await operatorClient.get(`/v1/operator/organisations/${org.id}`)).body.usage.points;
+      if (points === settled) break;
+      settled = points;
+      await new Promise((r) => setTimeout(r, FLUSH_INTERVAL_MS + 200));
+    }
     const [gql, rest] = await Promise.all([operatorClient.graphql(LIST), operatorClient.get('/v1/operator/organisations')]);
     assert.equal(gql.errors, undefined, JSON.stringify(gql.errors));
     const g = gql.data.operatorOrganisations.items.find((o: any) => o.id === org.id);
