@@ -7,7 +7,7 @@ import { provideRouter } from '@angular/router';
 import { AuthSession } from '../core/auth-session';
 import { fakeSession } from '../shared/testing';
 import type { Job } from './jobs-api';
-import { JobsPage, formatDuration, formatError } from './jobs-page';
+import { JobsPage, formatDuration, formatError, warningSummary } from './jobs-page';
 
 const PERMISSIONS = '/v1/organisations/org-1/permissions';
 const DEVELOPER_ACTIONS = ['jobs.read', 'jobs.create'];
@@ -163,6 +163,21 @@ describe('JobsPage', () => {
     expect(page.textContent).toContain('Your role can follow jobs');
   });
 
+  it('says how many states of a finished job carry physics warnings, and which', async () => {
+    const finished = (id: string, result: Job['result']) => job({ id, state: 'completed', points: 3, pointsDone: 3, chunksDone: 4, progress: 1, pointsPerSecond: 0.3, etaSeconds: null, result });
+    const { page } = await render([
+      finished('j-w', { statusCounts: { '0': 3 }, computed: 3, warned: 2, warningCounts: { PARTIAL_IONIZATION: 1, NON_POSITIVE_PRESSURE: 2 } }),
+      finished('j-0', { statusCounts: { '0': 3 }, computed: 3, warned: 0, warningCounts: {} }),
+      finished('j-old', { statusCounts: { '0': 3 }, computed: 3, warned: null, warningCounts: null }),
+    ]);
+    const [warned, clean, old] = [...page.querySelectorAll('.job')].map((li) => li.textContent!);
+    expect(warned).toContain('Physics warnings on 2 of 3 states: NON_POSITIVE_PRESSURE 2, PARTIAL_IONIZATION 1.');
+    expect(page.querySelector('.job-warnings.warned')).not.toBeNull();
+    expect(warned).toContain('0.3 points/s');
+    expect(clean).toContain('No physics warnings.');
+    expect(old).toContain('Physics warnings were not recorded for this job.');
+  });
+
   it('offers the results of a finished job for download', async () => {
     const { page } = await render([job({ id: 'j-2', state: 'completed', files: { csv: FILE } })]);
     const button = [...page.querySelectorAll<HTMLButtonElement>('.job-actions button')].find((b) => b.textContent!.includes('CSV'))!;
@@ -237,6 +252,12 @@ describe('jobs page formatting', () => {
     expect(formatDuration(null)).toBe('—');
     expect(formatError(3.2e-7)).toBe('3.2e-7');
     expect(formatError(null)).toBe('—');
+  });
+
+  it('a warning summary counts states, not flags', () => {
+    const result = { warned: 1, warningCounts: { PARTIAL_IONIZATION: 1, CRYSTALLIZED: 1, MECHANICALLY_UNSTABLE: 1 } };
+    const done = { id: 'j', kind: 'batch', name: 'x', state: 'completed', points: 12000, result } as unknown as Job;
+    expect(warningSummary(done)).toMatch(/^Physics warnings on 1 of 12,000 states: /);
   });
 
 });

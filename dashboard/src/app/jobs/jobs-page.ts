@@ -17,9 +17,9 @@ import { AuthSession } from '../core/auth-session';
 import { asProblem, problemMessage } from '../core/problem';
 import { ACTIVE_STATES, BUILTIN_MIXTURES, type Job, type JobFile, JobsApi, type TableGridRequest } from './jobs-api';
 
-/** How often the page asks again while a job or build is queued or running. */
-export /** The builder's denser T band over the pair onset (eos/free-energy-table.ts PAIR_ONSET_BAND). */
+/** The builder's denser T band over the pair onset (eos/free-energy-table.ts PAIR_ONSET_BAND). */
 const PAIR_ONSET = { min: 8, max: 10, perDecade: 60 } as const;
+/** How often the page asks again while a job or build is queued or running. */
 const POLL_MS = 2000;
 
 /** One problem of a refused upload, as the gateway lists it (line for CSV, index for HDF5). */
@@ -41,6 +41,22 @@ export function formatError(x: number | null | undefined): string {
   return typeof x === 'number' && Number.isFinite(x) ? x.toExponential(1) : '—';
 }
 
+/**
+ * What a finished batch's summary says about physics warnings (its `warned` and `warningCounts`):
+ * "Physics warnings on 2 of 3 states: PARTIAL_IONIZATION 2, …", "No physics warnings.", or, for a
+ * job finished before warnings were recorded (both null), that they were not recorded.
+ */
+export function warningSummary(job: Job): string {
+  const warned = job.result?.['warned'];
+  if (typeof warned !== 'number') return 'Physics warnings were not recorded for this job.';
+  if (warned === 0) return 'No physics warnings.';
+  const counts = (job.result?.['warningCounts'] ?? {}) as Readonly<Record<string, number>>;
+  const names = Object.entries(counts)
+    .sort(([, a], [, b]) => b - a)
+    .map(([name, n]) => `${name} ${n.toLocaleString('en')}`);
+  return `Physics warnings on ${warned.toLocaleString('en')} of ${job.points.toLocaleString('en')} states${names.length ? `: ${names.join(', ')}` : ''}. Check the warningFlags column before using those values.`;
+}
+
 /** The Jobs page (DESIGN.md §7): batch uploads with live progress, and table builds with their accuracy report. */
 @Component({
   selector: 'fw-jobs-page',
@@ -59,6 +75,7 @@ export class JobsPage {
   protected readonly mixtures = BUILTIN_MIXTURES;
   protected readonly formatDuration = formatDuration;
   protected readonly formatError = formatError;
+  protected readonly warningSummary = warningSummary;
 
   protected readonly loading = signal(true);
   protected readonly error = signal('');
