@@ -31,6 +31,11 @@ const audit: AuditEntry[] = [
     actor: { id: 'u-dana', displayName: 'Dana Postdoc', email: 'dana@tests.example' }, target: { type: 'key', id: 'ab12cd34' },
     details: { name: 'cluster runs' }, ip: '127.0.0.1',
   },
+  {
+    id: 'a-0', createdAt: '2026-01-06T10:00:00Z', action: 'member.joined', scope: 'organisation', organisationId: 'org-1',
+    actor: { id: 'u-lee', displayName: 'Lee Student', email: 'lee@tests.example' }, target: { type: 'user', id: 'u-lee' },
+    details: { role: 'developer' }, ip: '127.0.0.1',
+  },
 ];
 
 describe('TeamPage', () => {
@@ -77,6 +82,9 @@ describe('TeamPage', () => {
     expect(page.textContent).toContain('kim@tests.example');
     expect(page.textContent).toContain('key.created');
     expect(page.textContent).toContain('name: cluster runs');
+    // a member as target by name, not by id; other targets by type and id
+    const targets = [...page.querySelectorAll('.audit-table td.mat-column-target')].map((td) => td.textContent!.trim());
+    expect(targets).toEqual(['key ab12cd34', 'Lee Student']);
     expect(page.querySelector('button[aria-label="Remove Lee Student"]')).not.toBeNull();
   });
 
@@ -99,6 +107,14 @@ describe('TeamPage', () => {
     expect(request.request.body).toEqual({ email: 'sam@tests.example', role: 'developer' });
     request.flush({ ...invitations[0], id: 'inv-2', email: 'sam@tests.example', role: 'developer' });
     await vi.waitFor(() => expect(page.textContent).toContain('sam@tests.example'));
+    // the audit log shows the invitation it recorded
+    const log = backend.expectOne((r) => r.url === `${ORG}/audit-log`);
+    expect(log.request.params.get('cursor')).toBeNull();
+    log.flush({
+      items: [{ ...audit[0]!, id: 'a-2', action: 'invitation.created', target: null, details: { email: 'sam@tests.example', role: 'developer' } }, ...audit],
+      nextCursor: null,
+    });
+    await vi.waitFor(() => expect(page.textContent).toContain('invitation.created'));
     await fixture.whenStable();
     // the field is emptied for the next address without being shown as an error (the form was submitted)
     expect(email.value).toBe('');

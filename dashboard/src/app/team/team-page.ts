@@ -181,6 +181,7 @@ export class TeamPage {
     try {
       const updated = await firstValueFrom(this.teamApi.changeRole(organisationId, member.user.id, role));
       this.members.update((list) => list.map((m) => (m.user.id === member.user.id ? updated : m)));
+      this.refreshAudit();
       this.snackBar.open(`${member.user.displayName} is now ${role}.`, 'OK', { duration: 5000 });
     } catch (error) {
       // Put the select back to the role the server kept.
@@ -208,6 +209,7 @@ export class TeamPage {
         return;
       }
       this.members.update((list) => list.filter((m) => m.user.id !== member.user.id));
+      this.refreshAudit();
     } catch (error) {
       this.snackBar.open(this.memberMessage(error), 'Dismiss', { duration: 8000 });
     }
@@ -228,6 +230,7 @@ export class TeamPage {
       if (directive) directive.resetForm({ email: '', role });
       else this.inviteForm.controls.email.reset('');
       this.snackBar.open(`Invitation sent to ${invitation.email}.`, 'OK', { duration: 5000 });
+      this.refreshAudit();
     } catch (error) {
       applyServerErrors(this.inviteForm, fieldErrors(error));
       this.inviteError.set(
@@ -253,6 +256,7 @@ export class TeamPage {
     try {
       await firstValueFrom(this.teamApi.revokeInvitation(organisationId, invitation.id));
       this.invitations.update((list) => list.filter((i) => i.id !== invitation.id));
+      this.refreshAudit();
     } catch (error) {
       this.snackBar.open(problemMessage(error), 'Dismiss', { duration: 8000 });
     }
@@ -278,9 +282,22 @@ export class TeamPage {
     await this.fetchAudit(cursors[cursors.length - 1] ?? null);
   }
 
+  /** An entry's target for people: a member by name (the id stays in the tooltip), else its type and id. */
+  protected targetLabel(entry: AuditEntry): string {
+    const target = entry.target;
+    if (!target) return '—';
+    const member = target.type === 'user' ? this.members().find((m) => m.user.id === target.id) : undefined;
+    return member ? member.user.displayName : `${target.type} ${target.id}`;
+  }
+
   protected details(entry: AuditEntry): string {
     const parts = Object.entries(entry.details ?? {}).map(([k, v]) => `${k}: ${typeof v === 'string' ? v : JSON.stringify(v)}`);
     return parts.join(', ');
+  }
+
+  /** After a change the server records in the audit log: show its entry when the newest page is in view. */
+  private refreshAudit(): void {
+    if (this.can('audit.read') && this.auditCursors().length === 1) void this.fetchAudit(null);
   }
 
   private async fetchAudit(cursor: string | null): Promise<void> {
