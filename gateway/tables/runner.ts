@@ -26,6 +26,22 @@ import { accuracySummary } from './accuracy.js';
 /** Sample of off-grid points the builder checks against the exact method (besides every cell centre). */
 export const ACCURACY_RANDOM_POINTS = 500;
 
+/**
+ * The download name of a build's file, from the build's name in ASCII: ρYe (ρ·Ye) as `density_ye`,
+ * as the file's own `/grid/log_density_ye` says it, dashes kept, anything else unsafe as `_`. The
+ * default name "table ρYe 1e4–1e8, T 1e7–1e10" gives table_density_ye_1e4-1e8_T_1e7-1e10.h5.
+ */
+export function tableFileName(name: string): string {
+  const base = name
+    .replace(/ρ\s*·?\s*Ye/g, 'density_ye')
+    .replace(/ρ/g, 'rho')
+    .replace(/[–—]/g, '-')
+    .replace(/[^\w.-]+/g, '_')
+    .replace(/^_+|_+$/g, '')
+    .slice(0, 80) || 'table';
+  return base.endsWith('.h5') ? base : `${base}.h5`;
+}
+
 export interface RunnerDeps {
   db: Knex;
   eos: EosService;
@@ -71,12 +87,11 @@ export class TableBuildRunner {
         if (mixture) await addMixtureTerms(file, table, mixture, this.deps.eos);
       });
       const finished = await db.transaction(async (trx) => {
-        const base = job.name.replace(/[^\w.-]+/g, '_').slice(0, 80) || 'table';
         const file = await store.insertFile(trx, {
           organisationId: job.organisation_id,
           jobId,
           role: 'table-hdf5',
-          fileName: base.endsWith('.h5') ? base : `${base}.h5`,
+          fileName: tableFileName(job.name),
           contentType: 'application/x-hdf5',
           content: bytes,
         });

@@ -18,6 +18,7 @@ import { readTableWithInfo } from '../../eos-tables/table-file.js';
 import { nodeLogDensityYe, nodeLogTemperature } from '../../eos/free-energy-table.js';
 import type { RunningGateway } from '../../gateway/server.js';
 import { assertChecksum, download, waitForJob } from './jobs-helpers.js';
+import { tableFileName } from '../../gateway/tables/runner.js';
 
 let gateway: RunningGateway;
 let fx: Fixtures;
@@ -53,6 +54,15 @@ test('grids the builder cannot take are refused before anything counts', async (
   assert.equal(Number(count!.n), 0);
 });
 
+test('a table file is named in ASCII, in the words of its own grid (density_ye), never a mangled ρ', () => {
+  // the default name of a build (gateway/tables/service.ts)
+  assert.equal(tableFileName('table ρYe 1e4–1e8, T 1e7–1e10'), 'table_density_ye_1e4-1e8_T_1e7-1e10.h5');
+  assert.equal(tableFileName('table ρYe 1e-12–1e15, T 1e3–1e13'), 'table_density_ye_1e-12-1e15_T_1e3-1e13.h5');
+  assert.equal(tableFileName('ρ·Ye grid for the shell'), 'density_ye_grid_for_the_shell.h5');
+  assert.equal(tableFileName('he-shell grid.h5'), 'he-shell_grid.h5');
+  assert.equal(tableFileName('★★'), 'table.h5');
+});
+
 test('a small table is built, downloaded with its checksum, read back and read by h5dump', async () => {
   const res = await post({ name: 'he-shell grid', grid: GRID, composition: { mixture: 'he4' } });
   assert.equal(res.status, 201);
@@ -71,6 +81,8 @@ test('a small table is built, downloaded with its checksum, read back and read b
   assert.equal(status, 200);
   assert.equal(headers.get('content-type'), 'application/x-hdf5');
   assertChecksum(bytes, headers, job.files.table.sha256);
+  assert.equal(job.files.table.fileName, 'he-shell_grid.h5');
+  assert.match(headers.get('content-disposition') ?? '', /filename="he-shell_grid\.h5"/);
   const file = path.join(dir, 'table.h5');
   fs.writeFileSync(file, bytes);
 
