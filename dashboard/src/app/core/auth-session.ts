@@ -1,3 +1,4 @@
+import { HttpErrorResponse } from '@angular/common/http';
 import { DestroyRef, Injectable, computed, inject, signal } from '@angular/core';
 import { Router } from '@angular/router';
 import { firstValueFrom } from 'rxjs';
@@ -8,6 +9,13 @@ import { problemKind } from './problem';
 
 /** Where the chosen organisation survives reloads (an id, nothing secret). */
 export const ORGANISATION_STORAGE_KEY = 'fermiwell.organisation';
+/**
+ * Whether this browser may hold a refresh cookie (which scripts cannot see): '1' once a session was
+ * issued here, '0' once the gateway refused a refresh or the user signed out. A load with '0' does
+ * not ask to restore a session — that request could only answer 401, which the browser logs as an
+ * error on every signed-out page. Unset or unreadable: ask, as before.
+ */
+export const SESSION_HINT_STORAGE_KEY = 'fermiwell.session';
 /** Refresh this long before the access token runs out. */
 const REFRESH_MARGIN_SECONDS = 60;
 
@@ -25,6 +33,22 @@ function storeOrganisation(id: string | null): void {
     else globalThis.localStorage?.removeItem(ORGANISATION_STORAGE_KEY);
   } catch {
     // storage disabled: the choice then lasts for this page only
+  }
+}
+
+function readSessionHint(): string | null {
+  try {
+    return globalThis.localStorage?.getItem(SESSION_HINT_STORAGE_KEY) ?? null;
+  } catch {
+    return null;
+  }
+}
+
+function storeSessionHint(mayHoldSession: boolean): void {
+  try {
+    globalThis.localStorage?.setItem(SESSION_HINT_STORAGE_KEY, mayHoldSession ? '1' : '0');
+  } catch {
+    // storage disabled: every load asks
   }
 }
 
@@ -76,7 +100,8 @@ export class AuthSession {
    */
   restore(): Promise<boolean> {
     if (this.userSignal()) return Promise.resolve(true);
-    this.restoring ??= this.refreshAccessToken().then(async (token) => {
+    const signedOutHere = readSessionHint() === '0';
+    this.restoring ??= (signedOutHere ? Promise.resolve(null) : this.refreshAccessToken()).then(async (token) => {
       if (!token) return false;
       try {
         await this.loadMe();
@@ -120,6 +145,7 @@ export class AuthSession {
     } catch {
       // Signing out is idempotent; locally we forget the session whatever the answer.
     }
+    storeSessionHint(false);
     this.clear();
     await this.router.navigateByUrl('/sign-in');
   }
@@ -179,7 +205,9 @@ export class AuthSession {
         this.accept(issued);
         return issued.accessToken;
       } catch (error) {
-        // Any 401 means the session is over; no answer at all leaves us unable to continue it.
+        // Any 401 means the session is over (and its cookie cleared); no answer at all leaves us
+        // unable to continue it, but the cookie may still be good for the next load.
+        if (error instanceof HttpErrorResponse && error.status === 401) storeSessionHint(false);
         return null;
       }
     };
@@ -188,6 +216,7 @@ export class AuthSession {
   }
 
   private accept(issued: IssuedSession): void {
+    storeSessionHint(true);
     this.token.set(issued.accessToken);
     this.userSignal.set(issued.user);
     clearTimeout(this.refreshTimer);
