@@ -17,7 +17,11 @@ export function dashboardRoutes(dir: string): Router {
     if (API_PREFIXES.some((p) => req.path === p || req.path.startsWith(p + '/'))) return next();
     if (!req.accepts('html')) return next();
     if (!fs.existsSync(index)) {
-      res.status(503).type('text/plain').send('The dashboard has not been built yet: run `npm start` (it builds it) or `npm run build`.');
+      // the folder itself stays out of the answer (no server paths to visitors): the variable names it
+      res
+        .status(503)
+        .type('text/plain')
+        .send('The dashboard is not built where this gateway looks for it (DASHBOARD_DIR, by default dist/dashboard/browser): run `npm start` (it builds it) or `npm run build`, or set DASHBOARD_DIR to the build\'s browser/ folder.');
       return;
     }
     res.setHeader('Cache-Control', 'no-cache');

@@ -130,6 +130,21 @@ describe('configuration and the dashboard files', () => {
     }
   });
 
+  test('without a built dashboard the page says where the gateway looks (the variable, not the path)', async () => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'fw-dash-empty-'));
+    const gateway = await startTestGateway({ DASHBOARD_DIR: dir });
+    try {
+      const res = await fetch(`${gateway.url}/keys`, { headers: { accept: 'text/html' } });
+      assert.equal(res.status, 503);
+      const text = await res.text();
+      assert.match(text, /DASHBOARD_DIR/);
+      assert.ok(!text.includes(dir), 'no server path in the answer');
+    } finally {
+      await gateway.close();
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
   test('graceful shutdown lets an in-flight request finish', async () => {
     const gateway = await startTestGateway();
     // begin shutting down the moment the server has the request (its handler awaits the database)
