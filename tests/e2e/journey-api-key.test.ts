@@ -4,7 +4,8 @@
  * creates an organisation, creates an API key (the secret is shown once, and it works against the
  * evaluation API), sees it listed, tries it in the Probe (an answer with units, the regime map and
  * the curves drawn with data), revokes it after a confirmation, and sees it revoked — and the
- * revoked secret is refused by the API. A reload keeps the session (the refresh cookie).
+ * revoked secret is refused by the API. A reload keeps the session (the refresh cookie). Then the
+ * owner invites a colleague on the Team page: listed, mailed, and in the audit log at once.
  */
 import { spawn } from 'node:child_process';
 import { after, before, test } from 'node:test';
@@ -223,6 +224,17 @@ test('journey 1: sign up, verify, sign in, create an organisation, create a key,
   await page.reload({ waitUntil: 'networkidle' });
   await page.waitForURL(/\/keys$/);
   await page.locator(`tr[data-key-id="${keyId}"]`).getByText('revoked', { exact: true }).waitFor();
+
+  // The owner invites a colleague: the invitation is listed, mailed, and the audit log shows it at once.
+  const colleague = uniqueEmail('journey-key-colleague');
+  await page.getByRole('link', { name: 'Team' }).click();
+  await page.waitForURL(/\/team$/);
+  await page.getByLabel('E-mail to invite').fill(colleague);
+  await page.getByRole('button', { name: 'Send invitation' }).click();
+  await page.getByRole('cell', { name: colleague, exact: true }).waitFor();
+  await page.locator('table.audit-table').getByText('invitation.created').waitFor();
+  await page.screenshot({ path: artifactPath('journey-1-09-invitation-sent.png') });
+  await waitForMail(colleague, { subject: new RegExp(`invited you to ${organisationName}`) });
 
   assert.deepEqual(outsideRequests, [], 'nothing is fetched from outside the gateway');
   assert.deepEqual(consoleErrors, [], 'no console errors');
