@@ -166,6 +166,9 @@ const BLOCK: i32 = 16;
 /** f64 per scratch slot: node offset (−1: no cell), i, x, y, u, v, 1/h_v, h_v. */
 const SLOT: i32 = 8;
 const scratch: usize = memory.data(BLOCK * SLOT * 8);
+/** f64 per point of a block for pass 2a's results: kp0 … kp11, the taper flag, then Coulomb U, C, S, Γ, its Zbar exponent. */
+const PART: i32 = 18;
+const parts: usize = memory.data(BLOCK * PART * 8, 16);
 /** Keeps the touching loads alive (never read for results). */
 let touchSink: i32 = 0;
 
@@ -223,12 +226,11 @@ function locate(d: f64, T: f64, k: i32): i32 {
   return 0;
 }
 
-/** The rest of tablePairGas at the cell in scratch slot k: the pair gas into the p…, q… globals. */
+/** The rest of tablePairGas at the cell in scratch slot k, with the references pass 2a left in `parts`: the pair gas into the p…, q… globals. */
 function tablePairGas(d: f64, T: f64, k: i32): void {
   const slot = scratch + (<usize>(k * SLOT) << 3);
   const oA = <i32>load<f64>(slot), i = <i32>load<f64>(slot, 8);
   const x = load<f64>(slot, 16), y = load<f64>(slot, 24);
-  const u = load<f64>(slot, 32), v = load<f64>(slot, 40);
   const invHv = load<f64>(slot, 48), hv = load<f64>(slot, 56);
   const mx = 1 - x;
   const my = 1 - y;
@@ -289,9 +291,11 @@ function tablePairGas(d: f64, T: f64, k: i32): void {
     F += load<f64>(c0) * a00 + load<f64>(c0, 8) * a01 + load<f64>(c0, 16) * a02 + load<f64>(c0, 24) * a10 + load<f64>(c0, 32) * a11 + load<f64>(c0, 40) * a12;
     Fu += (load<f64>(c0) * b00d + load<f64>(c0, 8) * b01d + load<f64>(c0, 16) * b02d + load<f64>(c0, 24) * b10d + load<f64>(c0, 32) * b11d + load<f64>(c0, 40) * b12d) * invHu;
   }
-  if (kernelPairParts(d, T, u, v)) {
-    F += kp5; Fu += kp6; Fv += kp7;
-    Fuv += kp9; Fvv += kp10;
+  const pp = parts + (<usize>(k * PART) << 3);
+  kp0 = load<f64>(pp); kp1 = load<f64>(pp, 8); kp2 = load<f64>(pp, 16); kp3 = load<f64>(pp, 24); kp4 = load<f64>(pp, 32); kp11 = load<f64>(pp, 80);
+  if (load<f64>(pp, 88) != 0) {
+    F += load<f64>(pp, 40); Fu += load<f64>(pp, 48); Fv += load<f64>(pp, 56);
+    Fuv += load<f64>(pp, 64); Fvv += load<f64>(pp, 72);
   }
   const invT = 1 / T;
   const P = d * Fu;
@@ -467,6 +471,50 @@ export function evaluateBatch(n: i32, stride: i32, inp: usize, out: usize, warn:
       store<u8>(status + i, <u8>(locate(d, T, i - b0) == 0 ? 0 : 2));
     }
     touchBlock(b1 - b0);
+    // pass 2a: the pair references and the Coulomb term of each located point, in a short loop whose
+    // iterations the processor overlaps (their long chains of exp/log calls are independent)
+    for (let i = b0; i < b1; i++) {
+      if (load<u8>(status + i) != 0) continue;
+      const ii = <usize>i << 3;
+      const rho = load<f64>(inp + ii);
+      const T = load<f64>(inp + nn + ii);
+      const abar = load<f64>(inp + 2 * nn + ii);
+      const zbar = load<f64>(inp + 3 * nn + ii);
+      const iAbar = 1 / abar, iT = 1 / T;
+      const slot = scratch + (<usize>((i - b0) * SLOT) << 3);
+      const pp = parts + (<usize>((i - b0) * PART) << 3);
+      const tapered = kernelPairParts((rho * zbar) / abar, T, load<f64>(slot, 32), load<f64>(slot, 40));
+      store<f64>(pp, kp0); store<f64>(pp, kp1, 8); store<f64>(pp, kp2, 16); store<f64>(pp, kp3, 24); store<f64>(pp, kp4, 32);
+      store<f64>(pp, kp5, 40); store<f64>(pp, kp6, 48); store<f64>(pp, kp7, 56); store<f64>(pp, kp9, 64); store<f64>(pp, kp10, 72);
+      store<f64>(pp, kp11, 80); store<f64>(pp, tapered ? 1 : 0, 88);
+      let U: f64 = 0, Cc: f64 = 0, Sc: f64 = 0, zExp: f64, G: f64;
+      // ln(ρ Ye) from the cell lookup: cube roots as exp(ln/3) (a cube root cost ~4 exps here)
+      const lnRhoYe = load<f64>(scratch + (<usize>((i - b0) * SLOT) << 3), 32);
+      if (species == 0) {
+        // Γ = Zbar^{5/3} Γ_e = (e²/kT)(4π/3 N_A ρ Ye Zbar⁵)^{1/3}; ln Zbar kept while Zbar repeats
+        if (zbar != lnZbarOf) { lnZbarOf = zbar; lnZbar = Math.log(zbar); }
+        G = E2_OVER_K * iT * Math.exp((lnRhoYe + LN_FOUR_PI_OVER_3_NA + 5 * lnZbar) * (1.0 / 3));
+        ocpLiquid(G);
+        const Y = iAbar;
+        U = Y * ocpU; Cc = Y * ocpC; Sc = Y * ocpS;
+        zExp = 2;
+      } else {
+        const ge = (E2_OVER_K * iT) * Math.exp((lnRhoYe + LN_FOUR_PI_OVER_3_NA) * (1.0 / 3));
+        const base = y + ((<usize>i * <usize>species) << 3);
+        let z53avg: f64 = 0;
+        for (let j = 0; j < species; j++) {
+          const Y = load<f64>(base + (<usize>j << 3));
+          const z = load<f64>(z53 + (<usize>j << 3));
+          if (Y == 0 || z == 0) continue;
+          ocpLiquid(z * ge);
+          U += Y * ocpU; Cc += Y * ocpC; Sc += Y * ocpS;
+          z53avg += Y * z;
+        }
+        zExp = 1.0 / 3;
+        G = z53avg * abar * ge;
+      }
+      store<f64>(pp, U, 96); store<f64>(pp, Cc, 104); store<f64>(pp, Sc, 112); store<f64>(pp, G, 120); store<f64>(pp, zExp, 128);
+    }
     // pass 2: the state at each located point
     for (let i = b0; i < b1; i++) {
       if (load<u8>(status + i) != 0) continue;
@@ -505,32 +553,8 @@ export function evaluateBatch(n: i32, stride: i32, inp: usize, out: usize, warn:
       const phP = aT4 / 3, phPT = (4 * aT3) / 3, phE = aT4 * iRho, phEr = -aT4 / (rho * rho), phET = (4 * aT3) * iRho;
       const phS = (4 * aT3) / (3 * rho), phSr = -phS * iRho, phST = (4 * RADIATION_A * T * T) * iRho;
       // Coulomb (coulomb.ts coulombCorrection): one species of charge Zbar, or the linear mixing rule
-      let U: f64 = 0, Cc: f64 = 0, Sc: f64 = 0, zExp: f64, G: f64;
-      // ln(ρ Ye) from the cell lookup: cube roots as exp(ln/3) (a cube root cost ~4 exps here)
-      const lnRhoYe = load<f64>(scratch + (<usize>((i - b0) * SLOT) << 3), 32);
-      if (species == 0) {
-        // Γ = Zbar^{5/3} Γ_e = (e²/kT)(4π/3 N_A ρ Ye Zbar⁵)^{1/3}; ln Zbar kept while Zbar repeats
-        if (zbar != lnZbarOf) { lnZbarOf = zbar; lnZbar = Math.log(zbar); }
-        G = E2_OVER_K * iT * Math.exp((lnRhoYe + LN_FOUR_PI_OVER_3_NA + 5 * lnZbar) * (1.0 / 3));
-        ocpLiquid(G);
-        const Y = iAbar;
-        U = Y * ocpU; Cc = Y * ocpC; Sc = Y * ocpS;
-        zExp = 2;
-      } else {
-        const ge = (E2_OVER_K * iT) * Math.exp((lnRhoYe + LN_FOUR_PI_OVER_3_NA) * (1.0 / 3));
-        const base = y + ((<usize>i * <usize>species) << 3);
-        let z53avg: f64 = 0;
-        for (let j = 0; j < species; j++) {
-          const Y = load<f64>(base + (<usize>j << 3));
-          const z = load<f64>(z53 + (<usize>j << 3));
-          if (Y == 0 || z == 0) continue;
-          ocpLiquid(z * ge);
-          U += Y * ocpU; Cc += Y * ocpC; Sc += Y * ocpS;
-          z53avg += Y * z;
-        }
-        zExp = 1.0 / 3;
-        G = z53avg * abar * ge;
-      }
+      const pp = parts + (<usize>((i - b0) * PART) << 3);
+      const U = load<f64>(pp, 96), Cc = load<f64>(pp, 104), Sc = load<f64>(pp, 112), G = load<f64>(pp, 120), zExp = load<f64>(pp, 128);
       const RT = R_ION * T;
       const U1 = U - Cc;
       const third: f64 = 1.0 / 3;
