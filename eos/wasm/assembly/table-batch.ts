@@ -86,7 +86,7 @@ let qP: f64 = 0, qPD: f64 = 0, qPT: f64 = 0, qU: f64 = 0, qUD: f64 = 0, qUT: f64
 // kernelPairParts
 let kp0: f64 = 0, kp1: f64 = 0, kp2: f64 = 0, kp3: f64 = 0, kp4: f64 = 0, kp5: f64 = 0, kp6: f64 = 0, kp7: f64 = 0, kp9: f64 = 0, kp10: f64 = 0, kp11: f64 = 0;
 
-function kernelPairParts(d: f64, T: f64, u: f64, v: f64): bool {
+function kernelPairParts(T: f64, u: f64, v: f64): bool {
   const beta = (BOLTZMANN_K * T) / ELECTRON_REST_ENERGY;
   const S = 1 + beta * (15.0 / 8 + beta * (105.0 / 128));
   const S1 = beta * (15.0 / 8 + beta * (105.0 / 64));
@@ -483,13 +483,13 @@ export function evaluateBatch(n: i32, stride: i32, inp: usize, out: usize, warn:
       const iAbar = 1 / abar, iT = 1 / T;
       const slot = scratch + (<usize>((i - b0) * SLOT) << 3);
       const pp = parts + (<usize>((i - b0) * PART) << 3);
-      const tapered = kernelPairParts((rho * zbar) / abar, T, load<f64>(slot, 32), load<f64>(slot, 40));
+      const tapered = kernelPairParts(T, load<f64>(slot, 32), load<f64>(slot, 40));
       store<f64>(pp, kp0); store<f64>(pp, kp1, 8); store<f64>(pp, kp2, 16); store<f64>(pp, kp3, 24); store<f64>(pp, kp4, 32);
       store<f64>(pp, kp5, 40); store<f64>(pp, kp6, 48); store<f64>(pp, kp7, 56); store<f64>(pp, kp9, 64); store<f64>(pp, kp10, 72);
       store<f64>(pp, kp11, 80); store<f64>(pp, tapered ? 1 : 0, 88);
       let U: f64 = 0, Cc: f64 = 0, Sc: f64 = 0, zExp: f64, G: f64;
       // ln(ρ Ye) from the cell lookup: cube roots as exp(ln/3) (a cube root cost ~4 exps here)
-      const lnRhoYe = load<f64>(scratch + (<usize>((i - b0) * SLOT) << 3), 32);
+      const lnRhoYe = load<f64>(slot, 32);
       if (species == 0) {
         // Γ = Zbar^{5/3} Γ_e = (e²/kT)(4π/3 N_A ρ Ye Zbar⁵)^{1/3}; ln Zbar kept while Zbar repeats
         if (zbar != lnZbarOf) { lnZbarOf = zbar; lnZbar = Math.log(zbar); }
