@@ -11,7 +11,7 @@ import { fileURLToPath } from 'node:url';
 import { ensureCluster, ensureDatabase, startCluster, stopCluster, type Cluster } from './lib/postgres.js';
 import { prepareDatabase } from './lib/database.js';
 import { startLocalServices } from './lib/local-services.js';
-import { dashboardDist, ensureDashboardBuilt } from './lib/dashboard-build.js';
+import { dashboardBrowserDir, ensureDashboardBuilt } from './lib/dashboard-build.js';
 import { devJwtSecret } from './lib/dev-secret.js';
 import { ensureFreeEnergyTable } from '../eos-tables/build.js';
 import { ConfigError, loadConfig } from '../gateway/config.js';
@@ -79,7 +79,7 @@ async function main() {
   let config;
   try {
     // the gateway serves the build this script made (FW_DASHBOARD_DIST moves it), unless DASHBOARD_DIR says otherwise
-    const dashboardDir = process.env['DASHBOARD_DIR'] ?? path.join(dashboardDist(root), 'browser');
+    const dashboardDir = process.env['DASHBOARD_DIR'] ?? dashboardBrowserDir(root);
     config = loadConfig({ ...process.env, ...services.env, DASHBOARD_DIR: dashboardDir, DATABASE_URL: databaseUrl, JWT_SECRET: devJwtSecret(dataDir), EOS_TABLE_PATH: tablePath });
   } catch (error) {
     if (error instanceof ConfigError) {

@@ -17,7 +17,7 @@ import { fileURLToPath } from 'node:url';
 import { ensureCluster, ensureDatabase, startCluster, stopCluster, type Cluster } from './lib/postgres.js';
 import { prepareDatabase } from './lib/database.js';
 import { startLocalServices } from './lib/local-services.js';
-import { dashboardDist, ensureDashboardBuilt } from './lib/dashboard-build.js';
+import { dashboardBrowserDir, ensureDashboardBuilt } from './lib/dashboard-build.js';
 import { ensureFreeEnergyTable } from '../eos-tables/build.js';
 import { add, parseTap, parseVitest, zero, type Counts } from './lib/test-counts.js';
 
@@ -162,7 +162,7 @@ async function main() {
     const env: NodeJS.ProcessEnv = { ...process.env, NODE_ENV: 'test', LOG_LEVEL: process.env['LOG_LEVEL'] ?? 'silent' };
     // a fresh session-signing secret per run: never one written into the code (gateway/config.ts)
     env['JWT_SECRET'] = randomBytes(32).toString('base64url');
-    env['DASHBOARD_DIR'] = path.join(dashboardDist(root), 'browser');
+    env['DASHBOARD_DIR'] = dashboardBrowserDir(root);
     if (needsDatabase) {
       // A fresh cluster every run: nothing left over from an earlier run can make a test pass.
       fs.rmSync(clusterDir, { recursive: true, force: true });

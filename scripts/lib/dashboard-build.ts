@@ -20,8 +20,13 @@ export function dashboardDist(root: string): string {
   return path.resolve(process.env['FW_DASHBOARD_DIST'] ?? path.join(root, 'dist', 'dashboard'));
 }
 
+/** The build's browser/ folder: what the gateway serves (its DASHBOARD_DIR). */
+export function dashboardBrowserDir(root: string): string {
+  return path.join(dashboardDist(root), 'browser');
+}
+
 export function dashboardIsStale(root: string): boolean {
-  const built = path.join(dashboardDist(root), 'browser', 'index.html');
+  const built = path.join(dashboardBrowserDir(root), 'index.html');
   if (!fs.existsSync(built)) return true;
   const builtAt = fs.statSync(built).mtimeMs;
   const sources = ['dashboard', 'angular.json', 'package-lock.json', 'schema'].map((p) => path.join(root, p));
