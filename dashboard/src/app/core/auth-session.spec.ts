@@ -3,17 +3,11 @@ import { HttpTestingController, provideHttpClientTesting } from '@angular/common
 import { TestBed } from '@angular/core/testing';
 import { Router, provideRouter } from '@angular/router';
 
-import type { IssuedSession, User } from './api-types';
+import { TEST_USER } from '../shared/testing';
+import type { IssuedSession } from './api-types';
 import { AuthSession, SESSION_HINT_STORAGE_KEY } from './auth-session';
 
-const user: User = {
-  id: 'u-1',
-  email: 'ada@tests.example',
-  displayName: 'Ada',
-  emailVerified: true,
-  platformRole: null,
-  createdAt: '2026-01-01T00:00:00Z',
-};
+const user = TEST_USER;
 const issued: IssuedSession = { accessToken: 'access-1', tokenType: 'Bearer', expiresIn: 900, user };
 const noSession = { type: '/problems/session-required', title: 'No session', status: 401 };
 
@@ -44,7 +38,7 @@ describe('AuthSession restore after a load', () => {
   it('after a sign-in the next load restores the session from the cookie again', async () => {
     localStorage.setItem(SESSION_HINT_STORAGE_KEY, '0');
     const session = load();
-    const signIn = session.signIn('ada@tests.example', 'correct horse battery');
+    const signIn = session.signIn(TEST_USER.email, 'correct horse battery');
     backend.expectOne('/v1/auth/session').flush(issued);
     await vi.waitFor(() => backend.expectOne('/v1/me').flush({ user, organisations: [], currentOrganisation: null }));
     await signIn;
