@@ -47,6 +47,7 @@ import { toFloat64Column, type Column, type CompositionInput, type ResolvedCompo
 import { RADIATION_A } from './constants.js';
 import { electronCoupling } from './coulomb.js';
 import type { TableGrid } from './free-energy-table.js';
+import { EPS, MAX_LOG_STEP, Mode, NOT_MONOTONE_NO_SOLUTION, PROBE_OK, PROBE_TOO_HIGH, PROBE_TOO_LOW, Probe, Solver1D } from './invert-search.js';
 
 export type InverseProblem =
   | 'density-energy'
@@ -105,11 +106,6 @@ export function inverseProblemOf(input: InvertInput): InverseProblem {
   );
 }
 
-// Outcome of one probe evaluation inside the 1-D solver.
-const PROBE_OK = 0;
-const PROBE_TOO_LOW = -1; // no value, but the unknown must increase
-const PROBE_TOO_HIGH = -2; // no value, but the unknown must decrease
-
 const LN_T_MIN = Math.log(TEMPERATURE_MIN);
 const LN_T_MAX = Math.log(TEMPERATURE_MAX);
 const LN_RHO_MIN = Math.log(DENSITY_MIN);
@@ -135,196 +131,11 @@ function setTableBounds(g: TableGrid, ye: number): void {
     Math.max(DENSITY_MIN, (10 ** g.logDensityYeMin / ye) * (1 + inside)), Math.min(DENSITY_MAX, (10 ** g.logDensityYeMax / ye) * (1 - inside)),
   );
 }
-const EPS = 2.220446049250313e-16;
 /** Method "table" without an accuracy report: the edge tolerance is the accuracy goal (PHYSICS.md §7). */
 const TABLE_EDGE_FLOOR_DEFAULT = 1e-6;
-/** Internal: not monotone and no solution found (reported as NOT_MONOTONE with converged = 0). */
-const NOT_MONOTONE_NO_SOLUTION = 255;
-const MAX_LOG_STEP = 10;
 
 /** Which quantity a probe reads, and how the iteration transforms it. */
 const enum Qty { P, E, S }
-const enum Mode { LowerEnd, Log, Linear }
-
-/**
- * A monotone increasing function f(y) on [yLo, yHi], evaluated by `probe`. Results of the last
- * probe are read from f (value), fy (df/dy) and scale (magnitude of the summed terms, for the
- * rounding floor). The solver keeps all its state in fields: no allocation per point.
- */
-abstract class Probe {
-  f = 0;
-  fy = 0;
-  scale = 0;
-  /** Evaluate at y; return PROBE_OK, PROBE_TOO_LOW, PROBE_TOO_HIGH or a STATUS failure (> 0). */
-  abstract at(y: number): number;
-  /** Initial guess from the value and slope at the lower edge (LowerEnd mode only). */
-  abstract guess(fLo: number, fyLo: number, target: number): number;
-}
-
-class Solver1D {
-  iterations = 0;
-  /** The relation was seen decreasing somewhere during the search. */
-  nonMonotone = false;
-  y = NaN;
-  /** Value at the lower edge when it was evaluated (for messages). */
-  fLo = NaN;
-  /** Last value seen at the upper edge (for messages). */
-  fHi = NaN;
-  /** Final bracket. */
-  a = NaN;
-  b = NaN;
-  private bad = new Float64Array(32);
-  private nBad = 0;
-  /** Largest step in y per iteration. */
-  maxStep = MAX_LOG_STEP;
-  /**
-   * Method "table": relative accuracy of the forward answer (the table's reported maximum error).
-   * A target that misses the value at a bracket edge by no more than this times the summed
-   * magnitudes is reached there: where the given quantity barely depends on the unknown (P(ρ) of a
-   * hot pair- and radiation-dominated gas, κ up to ~1e19) the interpolation error outweighs the
-   * true variation across the whole bracket, so the table's P(ρ) may sit just above the target at
-   * the lowest density (as the exact method's does within rounding, which isConverged accepts).
-   */
-  edgeFloor = 0;
-  constructor(public tol: number, private maxEval: number) {}
-
-  private noteSlope(y: number, fy: number): void {
-    if (fy > 0) return;
-    this.nonMonotone = true;
-    if (this.nBad < this.bad.length) this.bad[this.nBad++] = y;
-  }
-
-  /**
-   * Where a solution was found: NOT_MONOTONE if the relation decreases at the solution or at a
-   * point seen inside the final bracket (another solution may then exist nearby), else OK. A
-   * decrease seen outside the final bracket does not make the solution ambiguous there.
-   */
-  private found(y: number, fy: number, a: number, b: number): number {
-    this.y = y;
-    this.a = a;
-    this.b = b;
-    if (!(fy > 0)) return STATUS.NOT_MONOTONE;
-    for (let i = 0; i < this.nBad; i++) if (this.bad[i] > a && this.bad[i] < b) return STATUS.NOT_MONOTONE;
-    return STATUS.OK;
-  }
-
-  /**
-   * Solve f(y) = target. `warm` (finite) replaces the guess from the lower edge. Returns a STATUS
-   * code; on OK or NOT_MONOTONE the probe's kernel holds the solution and `y` its coordinate.
-   */
-  solve(p: Probe, yLo: number, yHi: number, target: number, mode: Mode, warm: number): number {
-    this.nonMonotone = false;
-    this.nBad = 0;
-    this.fLo = NaN;
-    this.fHi = NaN;
-    const stepTol = this.tol / 8;
-    const budgetEnd = this.iterations + this.maxEval;
-    let a = yLo; // f(a) < target known when aKnown
-    let b = yHi; // f(b) > target known when bKnown
-    let aKnown = false;
-    let bKnown = false;
-    let fLo = NaN;
-    let y: number;
-    if (mode === Mode.LowerEnd) {
-      const st = p.at(yLo);
-      this.iterations++;
-      if (st > 0) return st;
-      if (st === PROBE_TOO_HIGH) return STATUS.NO_SOLUTION_BELOW_DOMAIN;
-      if (st === PROBE_OK) {
-        const r = p.f - target;
-        this.fLo = p.f;
-        this.noteSlope(yLo, p.fy);
-        if (this.isConverged(r, p, stepTol) || (r > 0 && r <= this.edgeFloor * p.scale)) return this.found(yLo, p.fy, yLo, yHi);
-        if (r > 0) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_BELOW_DOMAIN;
-        fLo = p.f;
-        aKnown = true;
-        y = Number.isFinite(warm) ? warm : p.guess(p.f, p.fy, target);
-      } else {
-        aKnown = true; // too low at the lower edge: any solution is above
-        y = Number.isFinite(warm) ? warm : 0.5 * (yLo + yHi);
-      }
-    } else {
-      y = warm;
-    }
-    if (!Number.isFinite(y)) y = 0.5 * (yLo + yHi);
-    y = Math.min(yHi, Math.max(yLo, y));
-    if (aKnown && y <= yLo) y = yLo + Math.min(1e-3, 0.5 * (yHi - yLo));
-    while (this.iterations < budgetEnd) {
-      const st = p.at(y);
-      this.iterations++;
-      if (st > 0) return st;
-      let next: number;
-      if (st === PROBE_TOO_LOW || st === PROBE_TOO_HIGH) {
-        if (st === PROBE_TOO_LOW) {
-          if (y >= yHi) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_ABOVE_DOMAIN;
-          a = y;
-          aKnown = true;
-        } else {
-          if (y <= yLo) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_BELOW_DOMAIN;
-          b = y;
-          bKnown = true;
-        }
-        if (aKnown && bKnown) next = 0.5 * (a + b);
-        else if (st === PROBE_TOO_LOW) next = Math.min(yHi, y + this.maxStep);
-        else next = Math.max(yLo, y - this.maxStep);
-        y = next;
-        continue;
-      }
-      const r = p.f - target;
-      this.noteSlope(y, p.fy);
-      if (y >= yHi) this.fHi = p.f;
-      if (this.isConverged(r, p, stepTol)) return this.found(y, p.fy, a, b);
-      if (r > 0) {
-        b = y;
-        bKnown = true;
-      } else {
-        a = y;
-        aKnown = true;
-      }
-      let dy = NaN;
-      if (p.fy > 0) {
-        dy = -r / p.fy;
-        if (mode === Mode.LowerEnd) {
-          const g = p.f - fLo;
-          const gt = target - fLo;
-          if (g > 0 && gt > 0) dy = -(Math.log(g) - Math.log(gt)) * (g / p.fy);
-        } else if (mode === Mode.Log && p.f > 0 && target > 0) {
-          dy = -(Math.log(p.f) - Math.log(target)) * (p.f / p.fy);
-        }
-      }
-      if (dy > this.maxStep) dy = this.maxStep;
-      else if (dy < -this.maxStep) dy = -this.maxStep;
-      next = y + dy;
-      const lowEdge = aKnown ? a : yLo;
-      const highEdge = bKnown ? b : yHi;
-      if (!(next > lowEdge && next < highEdge)) {
-        if (aKnown && bKnown) next = 0.5 * (a + b);
-        else if (!bKnown) {
-          // the root is above y and above every point seen
-          if (y >= yHi && -r <= this.edgeFloor * p.scale) return this.found(y, p.fy, a, b);
-          if (y >= yHi) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_ABOVE_DOMAIN;
-          next = Math.min(yHi, Number.isFinite(dy) ? y + Math.max(dy, 1e-3) : y + this.maxStep);
-          if (!(next > y)) next = yHi;
-        } else {
-          if (y <= yLo) return this.nonMonotone ? NOT_MONOTONE_NO_SOLUTION : STATUS.NO_SOLUTION_BELOW_DOMAIN;
-          next = Math.max(yLo, Number.isFinite(dy) ? y + Math.min(dy, -1e-3) : y - this.maxStep);
-          if (!(next < y)) next = yLo;
-        }
-      }
-      if (aKnown && bKnown && b - a <= 4 * EPS * Math.max(1, Math.abs(a))) {
-        // the bracket is exhausted at the resolution of y: the solution is here
-        return this.found(y, p.fy, a, b);
-      }
-      y = next;
-    }
-    return STATUS.NOT_CONVERGED;
-  }
-
-  private isConverged(r: number, p: Probe, stepTol: number): boolean {
-    if (Math.abs(r) <= 4 * EPS * p.scale) return true;
-    return p.fy > 0 && Math.abs(r / p.fy) <= stepTol;
-  }
-}
 
 /** Sum of |component value| of a quantity in the kernel (rounding-floor scale). */
 function magnitude(k: PointKernel, q: Qty): number {
@@ -787,16 +598,21 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
       res.temperature[i] = ctx.T;
       storePoint(res, i, kernel, comp.zmax[i], relativistic);
       res.conditionNumber[i] = conditionNumber(kernel, problem, ctx.rho, ctx.T);
-      res.converged[i] = 1;
-      res.status[i] = st;
-      if (st === STATUS.NOT_MONOTONE) {
-        res.messages[i] = `a solution was found, but ${problem === 'pressure-entropy' ? 'P along the isentrope' : 'P(ρ) at this T'} is not monotone here (the Coulomb correction makes ∂P/∂ρ ≤ 0): other states may give the same ${keyA} and ${keyB}`;
-      }
+      markSolved(res, i, st, problem, keyA, keyB);
       continue;
     }
     failPoint(res, i, st === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_MONOTONE : st, failureMessage(st, problem, a, b, qty, outer, evals));
   }
   return res;
+}
+
+/** Status, converged flag and message of a point whose search found a solution (OK or NOT_MONOTONE). */
+function markSolved(res: InvertResult, i: number, st: number, problem: InverseProblem, keyA: string, keyB: string): void {
+  res.converged[i] = 1;
+  res.status[i] = st;
+  if (st === STATUS.NOT_MONOTONE) {
+    res.messages[i] = `a solution was found, but ${problem === 'pressure-entropy' ? 'P along the isentrope' : 'P(ρ) at this T'} is not monotone here (the Coulomb correction makes ∂P/∂ρ ≤ 0): other states may give the same ${keyA} and ${keyB}`;
+  }
 }
 
 function conditionNumber(k: PointKernel, problem: InverseProblem, rho: number, T: number): number {
