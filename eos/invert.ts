@@ -33,7 +33,9 @@
  * domain, so edge probes never leave the table (tests/eos/table-invert.test.ts). A target within the
  * table's reported maximum error (P, e, s) of the value at a bracket edge is reached there
  * (`Solver1D.edgeFloor`): hot dilute (P, T) → ρ, where P(ρ) is flat to within that error, failed
- * for ~10–40 % of such points without it.
+ * for ~10–40 % of such points without it. The three (ρ, ·) → T problems run their searches in
+ * batches there (`solveTemperaturesInBatches`): the same steps, with every unfinished point's next
+ * temperature of a 512-point chunk evaluated in one call of the WebAssembly loop.
  *
  * Accuracy (tests/eos/invert.test.ts, 10 000 states per problem over the whole domain): round
  * trips ≤ 2.5e-13 where the problem is well conditioned, within the rounding floor elsewhere.
@@ -47,7 +49,8 @@ import { toFloat64Column, type Column, type CompositionInput, type ResolvedCompo
 import { RADIATION_A } from './constants.js';
 import { electronCoupling } from './coulomb.js';
 import type { TableGrid } from './free-energy-table.js';
-import { EPS, MAX_LOG_STEP, Mode, NOT_MONOTONE_NO_SOLUTION, PROBE_OK, PROBE_TOO_HIGH, PROBE_TOO_LOW, Probe, Solver1D } from './invert-search.js';
+import { EPS, MAX_LOG_STEP, Mode, NOT_MONOTONE_NO_SOLUTION, PROBE_OK, PROBE_TOO_HIGH, PROBE_TOO_LOW, Probe, SEARCH_PROBE, Solver1D } from './invert-search.js';
+import { COLUMN, TABLE_PROBE_CHUNK, TableProbeBatch } from './table-probe.js';
 
 export type InverseProblem =
   | 'density-energy'
@@ -531,6 +534,11 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
   const newton = new Newton2D(maxEval);
   const scan = new IsothermScan(ctx);
   outer.maxStep = problem === 'pressure-entropy' ? 30 : MAX_LOG_STEP;
+  if (kernel.table !== null && problem.startsWith('density-')) {
+    const batch = new TableProbeBatch(kernel.table, inc, relativistic, ctx.mixture);
+    solveTemperaturesInBatches(res, problem, keyA, keyB, A, B, comp, batch, tProbe, outer.edgeFloor, tol, maxEval);
+    return res;
+  }
 
   for (let i = 0; i < n; i++) {
     const a = A[i];
@@ -612,6 +620,93 @@ function markSolved(res: InvertResult, i: number, st: number, problem: InversePr
   res.status[i] = st;
   if (st === STATUS.NOT_MONOTONE) {
     res.messages[i] = `a solution was found, but ${problem === 'pressure-entropy' ? 'P along the isentrope' : 'P(ρ) at this T'} is not monotone here (the Coulomb correction makes ∂P/∂ρ ≤ 0): other states may give the same ${keyA} and ${keyB}`;
+  }
+}
+
+/**
+ * Method "table", (ρ, ·) → T: the same search as the per-point loop of `invert` (Solver1D in
+ * Mode.LowerEnd from the table's lowest temperature, the TemperatureProbe's first guess), run for up
+ * to TABLE_PROBE_CHUNK points side by side: each round evaluates every unfinished point's next
+ * temperature in one call of the WebAssembly loop (evaluate's table method) instead of one JavaScript
+ * per-point evaluation each (~1.4 µs). Results differ from the per-point path only by that loop's
+ * rounding (tests/eos/table-invert.test.ts compares the two).
+ */
+function solveTemperaturesInBatches(
+  res: InvertResult, problem: InverseProblem, keyA: string, keyB: string, A: Float64Array, B: Float64Array,
+  comp: ResolvedComposition, batch: TableProbeBatch, probe: TemperatureProbe, edgeFloor: number, tol: number, maxEval: number,
+): void {
+  const n = res.n;
+  const q = problem === 'density-energy' ? Qty.E : problem === 'density-pressure' ? Qty.P : Qty.S;
+  const col = q === Qty.E ? COLUMN.specificEnergy : q === Qty.P ? COLUMN.pressure : COLUMN.specificEntropy;
+  const colT = q === Qty.E ? COLUMN.dEdT : q === Qty.P ? COLUMN.dPdT : COLUMN.dSdT;
+  probe.q = q;
+  batch.bind(res);
+  // the table's temperature range (it does not depend on Ye): the bracket of every point
+  setTableBounds(batch.table.grid, 1);
+  const m0 = Math.min(n, TABLE_PROBE_CHUNK);
+  const searches = Array.from({ length: m0 }, () => {
+    const s = new Solver1D(tol, maxEval);
+    s.edgeFloor = edgeFloor;
+    return s;
+  });
+  const active = new Int32Array(m0);
+  for (let from = 0; from < n; from += TABLE_PROBE_CHUNK) {
+    const m = Math.min(TABLE_PROBE_CHUNK, n - from);
+    let nActive = 0;
+    for (let j = 0; j < m; j++) {
+      const i = from + j;
+      const a = A[i], b = B[i];
+      res.density[i] = a;
+      const st = pointInputStatus(problem, a, b, comp, i);
+      if (st !== STATUS.OK) {
+        failPoint(res, i, st, pointInputMessage(problem, a, b, comp, i));
+        continue;
+      }
+      searches[j].iterations = 0;
+      searches[j].start(bounds.lnTMin, bounds.lnTMax, b, Mode.LowerEnd, NaN);
+      active[nActive++] = j;
+    }
+    while (nActive > 0) {
+      for (let k = 0; k < nActive; k++) {
+        const i = from + active[k];
+        const y = searches[active[k]].y;
+        batch.density[k] = A[i];
+        batch.temperature[k] = y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y);
+        batch.abar[k] = comp.abar[i];
+        batch.zbar[k] = comp.zbar[i];
+        batch.zmax[k] = comp.zmax[i];
+        batch.row[k] = i;
+      }
+      batch.run(nActive);
+      let kept = 0;
+      for (let k = 0; k < nActive; k++) {
+        const j = active[k], i = from + j, s = searches[j];
+        const T = batch.temperature[k];
+        let st = batch.status(k);
+        if (st === STATUS.OK) {
+          probe.rho = A[i];
+          probe.f = batch.value(k, col);
+          probe.fy = T * batch.value(k, colT);
+          probe.scale = batch.magnitude(k, col);
+          st = PROBE_OK;
+        }
+        const r = s.next(probe, st);
+        if (r === SEARCH_PROBE) {
+          active[kept++] = j;
+          continue;
+        }
+        res.iterations[i] = Math.min(s.iterations, 65535);
+        if (r === STATUS.OK || r === STATUS.NOT_MONOTONE) {
+          res.temperature[i] = T;
+          batch.store(i, k);
+          res.conditionNumber[i] = probe.scale / Math.abs(probe.fy);
+          markSolved(res, i, r, problem, keyA, keyB);
+        } else {
+          failPoint(res, i, r === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_MONOTONE : r, failureMessage(r, problem, A[i], B[i], q, s, s.iterations));
+        }
+      }
+      nActive = kept;
+    }
   }
 }
 

@@ -624,7 +624,7 @@ export function storePoint(res: EvaluateResult, i: number, k: PointKernel, zmax:
  * The three Maxwell residuals of point i, each divided by the sum of the magnitudes of its terms:
  * ρ²∂e/∂ρ = P − T∂P/∂T, ∂s/∂T = (1/T)∂e/∂T, ∂s/∂ρ = −(1/ρ²)∂P/∂T.
  */
-function storeMaxwellResiduals(mx: MaxwellResidualColumns, i: number, rho: number, T: number, P: number, dPdT: number,
+export function storeMaxwellResiduals(mx: MaxwellResidualColumns, i: number, rho: number, T: number, P: number, dPdT: number,
   dEdRho: number, dEdT: number, dSdRho: number, dSdT: number): void {
   const a = rho * rho * dEdRho;
   const b = P - T * dPdT;
@@ -763,7 +763,7 @@ function tableOutsideMessage(table: FreeEnergyTable, rho: number, ye: number, T:
 /** This thread's instance of the WebAssembly table loop (created on first use). */
 let tableBatch: TableBatch | null = null;
 
-function tableBatchEngine(): TableBatch {
+export function tableBatchEngine(): TableBatch {
   tableBatch ??= new TableBatch({
     avogadro: AVOGADRO, boltzmannK: BOLTZMANN_K, electronRestEnergy: ELECTRON_REST_ENERGY, radiationA: RADIATION_A,
     ionGasConstant: R_GAS, lnIonQuantumConcentration: LN_QC_UNIT, speedOfLight2: SPEED_OF_LIGHT * SPEED_OF_LIGHT,
@@ -772,6 +772,13 @@ function tableBatchEngine(): TableBatch {
     rydberg: RYDBERG, sahaFactor: PARTIAL_IONIZATION_SAHA_FACTOR, bohrRadius: BOHR_RADIUS,
   });
   return tableBatch;
+}
+
+/** The WebAssembly loop's flags for these components and options. */
+export function tableBatchFlags(inc: IncludeFlags, relativistic: boolean, breakdown: boolean): number {
+  return (inc.electrons ? FLAG.electrons : 0) | (inc.positrons ? FLAG.positrons : 0) | (inc.ions ? FLAG.ions : 0)
+    | (inc.photons ? FLAG.photons : 0) | (inc.coulomb ? FLAG.coulomb : 0) | (relativistic ? FLAG.relativistic : 0)
+    | (breakdown ? FLAG.breakdown : 0);
 }
 
 /** dst[at..at + n) = src[from..from + n) (an element loop for small batches: a subarray view costs more). */
@@ -800,9 +807,7 @@ function evaluateTableBatch(
   inc: IncludeFlags, table: FreeEnergyTable, relativistic: boolean,
 ): void {
   const n = res.n;
-  const flags = (inc.electrons ? FLAG.electrons : 0) | (inc.positrons ? FLAG.positrons : 0) | (inc.ions ? FLAG.ions : 0)
-    | (inc.photons ? FLAG.photons : 0) | (inc.coulomb ? FLAG.coulomb : 0) | (relativistic ? FLAG.relativistic : 0)
-    | (res.breakdown ? FLAG.breakdown : 0);
+  const flags = tableBatchFlags(inc, relativistic, res.breakdown);
   const engine = tableBatchEngine();
   const columns = [rhoCol, tCol, comp.abar, comp.zbar, comp.zmax];
   const reason = comp.reason;

@@ -22,7 +22,7 @@ import { test } from 'node:test';
 import assert from 'node:assert/strict';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { evaluate, invert, STATUS, type ComponentName, type InverseProblem } from '../../eos/index.js';
+import { evaluate, invert, COMPONENT_NAMES, STATUS, type ComponentName, type InverseProblem } from '../../eos/index.js';
 import { ensureFreeEnergyTable } from '../../eos-tables/build.js';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..');
@@ -180,4 +180,61 @@ test('(P, T) → ρ of hot dilute pair- and radiation-dominated matter (ρYe 1e-
     assert.equal(r.converged[i], 1, `ρ=${rho[i]}, T=${T[i]}: status ${r.status[i]} ${r.messages[i]}`);
     assert.ok(rel(back.pressure[i], f.pressure[i]) <= tol, `ρ=${rho[i]}, T=${T[i]}: P at the solution ${back.pressure[i]} vs ${f.pressure[i]}`);
   }
+});
+
+test('(ρ, ·) → T runs in batches: 1 300 points over three chunks with a nuclide mixture; every solved point holds exactly evaluate\'s table state at its (ρ, T), failures keep their own statuses', () => {
+  // (ρ, ·) → T with method "table" evaluates all unfinished points of a 512-point chunk in one call of
+  // the WebAssembly loop per round; each point's state is the last one its search evaluated.
+  const M = 1300;
+  const r2 = mulberry32(2718);
+  const rho = new Float64Array(M), T = new Float64Array(M);
+  const xH = new Float64Array(M), xHe = new Float64Array(M), xC = new Float64Array(M);
+  for (let i = 0; i < M; i++) {
+    xH[i] = 0.7 * r2();
+    xHe[i] = (1 - xH[i]) * r2();
+    xC[i] = 1 - xH[i] - xHe[i];
+    rho[i] = 10 ** (g.logDensityYeMin + 1 + (g.logDensityYeMax - g.logDensityYeMin - 3) * r2()) * 2;
+    T[i] = 10 ** (g.logTemperatureMin + 0.5 + (g.logTemperatureMax - g.logTemperatureMin - 1) * r2());
+  }
+  const nuclides = [{ a: 1, z: 1, massFraction: xH }, { a: 4, z: 2, massFraction: xHe }, { a: 12, z: 6, massFraction: xC }];
+  const tOpts = { method: 'table' as const, table, maxwellResiduals: true };
+  const fwd = evaluate({ density: rho, temperature: T, nuclides }, tOpts);
+  const given = { density: Float64Array.from(rho), specificEnergy: Float64Array.from(fwd.specificEnergy) };
+  // failures among the points, in every chunk: bad inputs, a density inside the domain but outside the table
+  // (ρ = 1e-12 g/cm³ with Ye < 1 is below its ρYe edge), an unreachable target
+  const bad = new Map<number, number>();
+  for (let i = 7; i < M; i += 97) { given.density[i] = NaN; bad.set(i, STATUS.INVALID_NUMBER); }
+  for (let i = 30; i < M; i += 113) { given.density[i] = 1e-12; bad.set(i, STATUS.TABLE_OUT_OF_RANGE); }
+  for (let i = 61; i < M; i += 211) { given.specificEnergy[i] = -Math.abs(fwd.specificEnergy[i]) * 1e3; bad.set(i, STATUS.NO_SOLUTION_BELOW_DOMAIN); }
+  const r = invert({ ...given, nuclides }, tOpts);
+  const at = evaluate({ density: r.density, temperature: r.temperature, nuclides }, tOpts);
+  const columns = ['pressure', 'specificEnergy', 'specificEntropy', 'dPdRho', 'dPdT', 'dEdRho', 'dEdT', 'dSdRho', 'dSdT',
+    'dPdAbar', 'dPdZbar', 'dEdAbar', 'dEdZbar', 'cv', 'cp', 'gamma1', 'gamma3', 'chiRho', 'chiT', 'nablaAd',
+    'soundSpeed', 'eta', 'electronDensity', 'positronDensity', 'coulombGamma', 'radiationPressureFraction'] as const;
+  let solved = 0;
+  for (let i = 0; i < M; i++) {
+    if (bad.has(i)) {
+      assert.equal(r.status[i], bad.get(i), `point ${i}: status ${r.status[i]} ${r.messages[i]}`);
+      assert.equal(r.converged[i], 0);
+      assert.ok(Number.isNaN(r.pressure[i]) && r.messages[i] !== '', `point ${i}: failed points carry NaN and a message`);
+      continue;
+    }
+    if (r.converged[i] !== 1) continue;
+    solved++;
+    assert.equal(at.status[i], STATUS.OK);
+    for (const c of columns) assert.ok(Object.is(r[c][i], at[c][i]), `point ${i} ${c}: ${r[c][i]} vs evaluate ${at[c][i]}`);
+    for (const comp of COMPONENT_NAMES) {
+      for (const c of ['pressure', 'specificEnergy', 'specificEntropy', 'dPdRho', 'dEdT', 'dSdRho'] as const) {
+        assert.ok(Object.is(r.components[comp][c][i], at.components[comp][c][i]), `point ${i} ${comp}.${c}`);
+      }
+    }
+    assert.equal(r.warnings[i], at.warnings[i], `point ${i}: warnings`);
+    for (const c of ['energy', 'entropyT', 'entropyRho'] as const) assert.ok(Object.is(r.maxwell![c][i], at.maxwell![c][i]), `point ${i}: Maxwell ${c}`);
+    // the solution: the target reached (well-conditioned here: κ = Σ|e_k| / (T c_v))
+    const bound = Math.max(GOAL, FLOOR_ULPS * EPS * r.conditionNumber[i]);
+    assert.ok(rel(r.temperature[i], T[i]) <= bound, `point ${i}: T ${r.temperature[i]} vs ${T[i]} (κ ${r.conditionNumber[i]})`);
+  }
+  const good = M - bad.size;
+  assert.ok(solved === good, `${solved} of ${good} valid points solved`);
+  console.log(`# batched (ρ, e) → T: ${solved} of ${good} valid points solved, ${bad.size} failures with their statuses; mean ${(Array.from(r.iterations).reduce((s, x) => s + x, 0) / M).toFixed(1)} evaluations a point`);
 });
