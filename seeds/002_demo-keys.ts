@@ -17,7 +17,8 @@ export async function seed(knex: Knex) {
         secret_hash: createHash('sha256').update(key.secret, 'utf8').digest('hex'),
         scopes: [...key.scopes],
         created_by: creator?.id ?? null,
-        created_at: knex.raw("now() - interval '60 days'"),
+        // (days, hours) before the seeding, as the audit log's key.created entries (003)
+        created_at: knex.raw(`now() - (? * interval '1 day') - (? * interval '1 hour')`, [...key.createdAgo]),
       })
       .onConflict('id')
       .ignore();

@@ -4,7 +4,7 @@
  */
 import type { Knex } from 'knex';
 import { createHash, randomBytes } from 'node:crypto';
-import { DEMO_KEYS, DEMO_ORGANISATION } from './demo-accounts.js';
+import { DEMO_KEYS, DEMO_ORGANISATION, DEMO_USERS } from './demo-accounts.js';
 
 /** The invented person invited to the demo group; nobody can accept (the token is thrown away). */
 export const DEMO_INVITATION = { email: 'elowen.hartigan@pellworth.example', role: 'developer' } as const;
@@ -34,15 +34,17 @@ export async function seed(knex: Knex) {
     created_at: at,
   });
   const asUser = (u: { id: string }) => ({ type: 'user', id: u.id });
+  // the membership rows (001) carry the same times
+  const joined = (u: { email: string }) => ago(...DEMO_USERS.find((d) => d.email === u.email)!.joinedAgo);
 
   await knex('audit_log').insert([
-    entry(ago(61), owner, 'organisation.created', { type: 'organisation', id: org.id }, { name: org.name }),
+    entry(joined(owner), owner, 'organisation.created', { type: 'organisation', id: org.id }, { name: org.name }),
     entry(ago(61, -1), owner, 'invitation.created', null, { email: maintainer.email, role: 'maintainer' }),
-    entry(ago(60, 20), maintainer, 'member.joined', asUser(maintainer), { role: 'maintainer' }),
-    entry(ago(60, 18), maintainer, 'key.created', { type: 'api_key', id: DEMO_KEYS[0].id }, { name: DEMO_KEYS[0].name, scopes: DEMO_KEYS[0].scopes }),
-    entry(ago(60, 2), developer, 'member.joined', asUser(developer), { role: 'developer' }),
-    entry(ago(60, 1), developer, 'key.created', { type: 'api_key', id: DEMO_KEYS[1].id }, { name: DEMO_KEYS[1].name, scopes: DEMO_KEYS[1].scopes }),
-    entry(ago(45), viewer, 'member.joined', asUser(viewer), { role: 'viewer' }),
+    entry(joined(maintainer), maintainer, 'member.joined', asUser(maintainer), { role: 'maintainer' }),
+    entry(ago(...DEMO_KEYS[0].createdAgo), maintainer, 'key.created', { type: 'api_key', id: DEMO_KEYS[0].id }, { name: DEMO_KEYS[0].name, scopes: DEMO_KEYS[0].scopes }),
+    entry(joined(developer), developer, 'member.joined', asUser(developer), { role: 'developer' }),
+    entry(ago(...DEMO_KEYS[1].createdAgo), developer, 'key.created', { type: 'api_key', id: DEMO_KEYS[1].id }, { name: DEMO_KEYS[1].name, scopes: DEMO_KEYS[1].scopes }),
+    entry(joined(viewer), viewer, 'member.joined', asUser(viewer), { role: 'viewer' }),
     entry(ago(30, 5), owner, 'member.role-changed', asUser(viewer), { from: 'developer', to: 'viewer' }),
     entry(ago(12, 3), null, 'auth.sign-in-failed', asUser(developer), { reason: 'wrong-password' }, false),
     entry(ago(12, 3), developer, 'auth.sign-in', asUser(developer), {}, false),

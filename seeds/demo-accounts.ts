@@ -15,14 +15,16 @@ export interface DemoUser {
   password: string;
   role: 'owner' | 'maintainer' | 'developer' | 'viewer' | null;
   platformRole: 'operator' | null;
+  /** When the account and its membership were made, as (days, hours) before the seeding; the audit log's entries agree. */
+  joinedAgo: readonly [number, number];
 }
 
 export const DEMO_USERS: readonly DemoUser[] = [
-  { email: 'imogen.thursby@harrowgate.example', displayName: 'Imogen Thursby', password: 'helium-shell-owner', role: 'owner', platformRole: null },
-  { email: 'tobias.renwick@harrowgate.example', displayName: 'Tobias Renwick', password: 'detonation-maint', role: 'maintainer', platformRole: null },
-  { email: 'mira.castellane@harrowgate.example', displayName: 'Mira Castellane', password: 'carbon-oxygen-dev', role: 'developer', platformRole: null },
-  { email: 'jonah.peverell@harrowgate.example', displayName: 'Jonah Peverell', password: 'white-dwarf-view', role: 'viewer', platformRole: null },
-  { email: 'operator@fermiwell.example', displayName: 'Fermiwell Operator', password: 'operator-console', role: null, platformRole: 'operator' },
+  { email: 'imogen.thursby@harrowgate.example', displayName: 'Imogen Thursby', password: 'helium-shell-owner', role: 'owner', platformRole: null, joinedAgo: [61, 0] },
+  { email: 'tobias.renwick@harrowgate.example', displayName: 'Tobias Renwick', password: 'detonation-maint', role: 'maintainer', platformRole: null, joinedAgo: [60, 20] },
+  { email: 'mira.castellane@harrowgate.example', displayName: 'Mira Castellane', password: 'carbon-oxygen-dev', role: 'developer', platformRole: null, joinedAgo: [60, 2] },
+  { email: 'jonah.peverell@harrowgate.example', displayName: 'Jonah Peverell', password: 'white-dwarf-view', role: 'viewer', platformRole: null, joinedAgo: [45, 0] },
+  { email: 'operator@fermiwell.example', displayName: 'Fermiwell Operator', password: 'operator-console', role: null, platformRole: 'operator', joinedAgo: [90, 0] },
 ];
 
 /**
@@ -36,6 +38,7 @@ export const DEMO_KEYS = [
     name: 'detonation-runs (cluster)',
     scopes: ['eos:evaluate', 'jobs:write', 'usage:read'],
     createdBy: 'tobias.renwick@harrowgate.example',
+    createdAgo: [60, 18],
   },
   {
     id: 'hgdemo02',
@@ -43,6 +46,7 @@ export const DEMO_KEYS = [
     name: 'analysis notebook',
     scopes: ['eos:evaluate', 'usage:read'],
     createdBy: 'mira.castellane@harrowgate.example',
+    createdAgo: [60, 1],
   },
 ] as const;
 
