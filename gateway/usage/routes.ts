@@ -69,10 +69,12 @@ export function usageRoutes(services: Services, usage: UsageService): Router {
       const answer = await usage.read(organisationId, query);
       res.set('Cache-Control', 'private, no-store');
       if (raw.get('format') === 'csv') {
+        // the file is named for the days it covers: the range is [from, to), so its last day is the one before `to`
+        const lastDay = new Date(Date.parse(answer.to) - 1).toISOString().slice(0, 10);
         res
           .status(200)
           .type('text/csv; charset=utf-8; header=present')
-          .set('Content-Disposition', `attachment; filename="usage-${organisationId}-${answer.from.slice(0, 10)}-${answer.to.slice(0, 10)}-${answer.granularity}.csv"`)
+          .set('Content-Disposition', `attachment; filename="usage-${organisationId}-${answer.from.slice(0, 10)}-${lastDay}-${answer.granularity}.csv"`)
           .send(usageCsv(answer));
       } else res.json(answer);
     }) as RequestHandler,

@@ -252,6 +252,8 @@ describe('CSV export', () => {
     assert.equal(csv.status, 200);
     assert.match(csv.headers.get('content-type') ?? '', /^text\/csv/);
     assert.match(csv.headers.get('content-disposition') ?? '', /^attachment; filename="usage-.+\.csv"$/);
+    // named for the days it covers ([from, to) = 10 and 11 January), as the dashboard shows the range
+    assert.match(csv.headers.get('content-disposition') ?? '', /-2026-01-10-2026-01-11-hour\.csv"$/);
     const lines = csv.text.split('\r\n');
     assert.equal(lines.pop(), '', 'ends with CRLF');
     assert.equal(lines[0], 'start,group,requests,points,errors,latencyP50Ms,latencyP90Ms,latencyP99Ms');
