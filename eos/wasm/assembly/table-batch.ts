@@ -128,10 +128,12 @@ function kernelPairParts(T: f64, u: f64, v: f64): bool {
   }
   let etaB: f64, g1: f64, B: f64;
   if (lam > 20) {
+    // e2 < 4.3e-18 < 2⁻⁵³: 1 + e2 rounds to 1, so sqrt(1 + e2) − 1 and log1p of it are 0, 1 − e2/2 is 1,
+    // and log1p(e2) returns e2 itself (musl's log1p below 2⁻⁵³): the same doubles as the full formulas
     const e2 = Math.exp(-2 * lam);
-    etaB = lamR + Math.LN2 + Math.log1p(0.5 * (Math.sqrt(1 + e2) - 1));
-    g1 = 1 - 0.5 * e2;
-    B = -0.5 * Math.log1p(e2);
+    etaB = lamR + Math.LN2;
+    g1 = 1;
+    B = -0.5 * e2;
   } else {
     const a = Math.exp(lam);
     const r = Math.sqrt(1 + a * a);
@@ -146,7 +148,8 @@ function kernelPairParts(T: f64, u: f64, v: f64): bool {
   const dr = rho - LN_SHARE_FLOOR;
   kp11 = dr;
   if (dr < -40) {
-    kp2 = LN_SHARE_FLOOR + Math.exp(dr); kp3 = 0; kp4 = 0;
+    // exp(dr) < 4.3e-18 is below half an ulp of LN_SHARE_FLOOR (ln 1e-30 ≈ −69.1, ulp 1.4e-14): the sum is LN_SHARE_FLOOR
+    kp2 = LN_SHARE_FLOOR; kp3 = 0; kp4 = 0;
   } else if (dr > 40) {
     kp2 = rho; kp3 = rhoU; kp4 = rhoV;
   } else {
