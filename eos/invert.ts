@@ -33,9 +33,9 @@
  * domain, so edge probes never leave the table (tests/eos/table-invert.test.ts). A target within the
  * table's reported maximum error (P, e, s) of the value at a bracket edge is reached there
  * (`Solver1D.edgeFloor`): hot dilute (P, T) → ρ, where P(ρ) is flat to within that error, failed
- * for ~10–40 % of such points without it. The three (ρ, ·) → T problems run their searches in
- * batches there (`solveTemperaturesInBatches`): the same steps, with every unfinished point's next
- * temperature of a 512-point chunk evaluated in one call of the WebAssembly loop.
+ * for ~10–40 % of such points without it. The (ρ, ·) → T and (P, T) → ρ problems run their searches
+ * in batches there (`solveInBatches`): the same steps, with every unfinished point's next
+ * temperature or density of a 512-point chunk evaluated in one call of the WebAssembly loop.
  *
  * Accuracy (tests/eos/invert.test.ts, 10 000 states per problem over the whole domain): round
  * trips ≤ 2.5e-13 where the problem is well conditioned, within the rounding floor elsewhere.
@@ -534,9 +534,9 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
   const newton = new Newton2D(maxEval);
   const scan = new IsothermScan(ctx);
   outer.maxStep = problem === 'pressure-entropy' ? 30 : MAX_LOG_STEP;
-  if (kernel.table !== null && problem.startsWith('density-')) {
+  if (kernel.table !== null && problem !== 'pressure-entropy') {
     const batch = new TableProbeBatch(kernel.table, inc, relativistic, ctx.mixture);
-    solveTemperaturesInBatches(res, problem, keyA, keyB, A, B, comp, batch, tProbe, outer.edgeFloor, tol, maxEval);
+    solveInBatches(res, problem, keyA, keyB, A, B, comp, batch, ctx, tProbe, dProbe, scan, outer.edgeFloor, tol, maxEval);
     return res;
   }
 
@@ -624,54 +624,84 @@ function markSolved(res: InvertResult, i: number, st: number, problem: InversePr
 }
 
 /**
- * Method "table", (ρ, ·) → T: the same search as the per-point loop of `invert` (Solver1D in
- * Mode.LowerEnd from the table's lowest temperature, the TemperatureProbe's first guess), run for up
- * to TABLE_PROBE_CHUNK points side by side: each round evaluates every unfinished point's next
- * temperature in one call of the WebAssembly loop (evaluate's table method) instead of one JavaScript
- * per-point evaluation each (~1.4 µs). Results differ from the per-point path only by that loop's
- * rounding (tests/eos/table-invert.test.ts compares the two).
+ * Method "table", (ρ, ·) → T and (P, T) → ρ: the same search as the per-point loop of `invert`
+ * (Solver1D in Mode.LowerEnd from the lower edge of the table's bracket, the probe's first guess),
+ * run for up to TABLE_PROBE_CHUNK points side by side: each round evaluates every unfinished point's
+ * next temperature or density in one call of the WebAssembly loop (evaluate's table method) instead
+ * of one JavaScript per-point evaluation each (~1.4 µs). A solved point's state is that loop's answer
+ * at its (ρ, T), bit for bit what `evaluate` gives there (tests/eos/table-invert.test.ts). (P, T) → ρ
+ * then checks the isotherm as the per-point loop does (IsothermScan, point by point with the JavaScript
+ * kernel: only cold isotherms are scanned); the batch's output keeps the state at the solution, so
+ * the per-point loop's re-evaluation there after a scan is not needed (one evaluation fewer).
  */
-function solveTemperaturesInBatches(
+function solveInBatches(
   res: InvertResult, problem: InverseProblem, keyA: string, keyB: string, A: Float64Array, B: Float64Array,
-  comp: ResolvedComposition, batch: TableProbeBatch, probe: TemperatureProbe, edgeFloor: number, tol: number, maxEval: number,
+  comp: ResolvedComposition, batch: TableProbeBatch, ctx: PointContext, tProbe: TemperatureProbe, dProbe: DensityProbe,
+  scan: IsothermScan, edgeFloor: number, tol: number, maxEval: number,
 ): void {
   const n = res.n;
-  const q = problem === 'density-energy' ? Qty.E : problem === 'density-pressure' ? Qty.P : Qty.S;
+  const forDensity = problem === 'pressure-temperature';
+  const q = problem === 'density-energy' ? Qty.E : problem === 'density-entropy' ? Qty.S : Qty.P;
   const col = q === Qty.E ? COLUMN.specificEnergy : q === Qty.P ? COLUMN.pressure : COLUMN.specificEntropy;
-  const colT = q === Qty.E ? COLUMN.dEdT : q === Qty.P ? COLUMN.dPdT : COLUMN.dSdT;
-  probe.q = q;
+  // the slope column: ∂/∂ρ of P for (P, T) → ρ, else ∂/∂T of the given quantity
+  const colSlope = forDensity ? COLUMN.dPdRho : q === Qty.E ? COLUMN.dEdT : q === Qty.P ? COLUMN.dPdT : COLUMN.dSdT;
+  const probe: Probe = forDensity ? dProbe : tProbe;
+  tProbe.q = q;
   batch.bind(res);
-  // the table's temperature range (it does not depend on Ye): the bracket of every point
-  setTableBounds(batch.table.grid, 1);
+  const grid = batch.table.grid;
   const m0 = Math.min(n, TABLE_PROBE_CHUNK);
   const searches = Array.from({ length: m0 }, () => {
     const s = new Solver1D(tol, maxEval);
     s.edgeFloor = edgeFloor;
     return s;
   });
+  // each point's bracket: the table's grid at its Ye (bounds is one module-level object: set it from these per point)
+  const lo = new Float64Array(4 * m0);
+  const useBounds = (j: number) => setBounds(lo[4 * j], lo[4 * j + 1], lo[4 * j + 2], lo[4 * j + 3]);
   const active = new Int32Array(m0);
+  const fail = (i: number, j: number, st: number) => {
+    useBounds(j);
+    failPoint(res, i, st === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_MONOTONE : st, failureMessage(st, problem, A[i], B[i], q, searches[j], searches[j].iterations));
+  };
+  const solved = (i: number, k: number, st: number) => {
+    res.density[i] = batch.density[k];
+    res.temperature[i] = batch.temperature[k];
+    batch.store(i, k);
+    res.conditionNumber[i] = batch.magnitude(k, col) / Math.abs((forDensity ? batch.density[k] : batch.temperature[k]) * batch.value(k, colSlope));
+    markSolved(res, i, st, problem, keyA, keyB);
+  };
   for (let from = 0; from < n; from += TABLE_PROBE_CHUNK) {
     const m = Math.min(TABLE_PROBE_CHUNK, n - from);
     let nActive = 0;
     for (let j = 0; j < m; j++) {
       const i = from + j;
       const a = A[i], b = B[i];
-      res.density[i] = a;
+      if (forDensity) res.temperature[i] = b;
+      else res.density[i] = a;
       const st = pointInputStatus(problem, a, b, comp, i);
       if (st !== STATUS.OK) {
         failPoint(res, i, st, pointInputMessage(problem, a, b, comp, i));
         continue;
       }
+      setTableBounds(grid, comp.ye[i]);
+      lo[4 * j] = bounds.tMin; lo[4 * j + 1] = bounds.tMax; lo[4 * j + 2] = bounds.rhoMin; lo[4 * j + 3] = bounds.rhoMax;
       searches[j].iterations = 0;
-      searches[j].start(bounds.lnTMin, bounds.lnTMax, b, Mode.LowerEnd, NaN);
+      if (forDensity) searches[j].start(bounds.lnRhoMin, bounds.lnRhoMax, a, Mode.LowerEnd, NaN);
+      else searches[j].start(bounds.lnTMin, bounds.lnTMax, b, Mode.LowerEnd, NaN);
       active[nActive++] = j;
     }
     while (nActive > 0) {
       for (let k = 0; k < nActive; k++) {
-        const i = from + active[k];
-        const y = searches[active[k]].y;
-        batch.density[k] = A[i];
-        batch.temperature[k] = y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y);
+        const j = active[k], i = from + j;
+        const y = searches[j].y;
+        useBounds(j);
+        if (forDensity) {
+          batch.density[k] = y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y);
+          batch.temperature[k] = B[i];
+        } else {
+          batch.density[k] = A[i];
+          batch.temperature[k] = y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y);
+        }
         batch.abar[k] = comp.abar[i];
         batch.zbar[k] = comp.zbar[i];
         batch.zmax[k] = comp.zmax[i];
@@ -681,29 +711,36 @@ function solveTemperaturesInBatches(
       let kept = 0;
       for (let k = 0; k < nActive; k++) {
         const j = active[k], i = from + j, s = searches[j];
-        const T = batch.temperature[k];
         let st = batch.status(k);
         if (st === STATUS.OK) {
-          probe.rho = A[i];
           probe.f = batch.value(k, col);
-          probe.fy = T * batch.value(k, colT);
+          probe.fy = (forDensity ? batch.density[k] : batch.temperature[k]) * batch.value(k, colSlope);
           probe.scale = batch.magnitude(k, col);
           st = PROBE_OK;
         }
+        useBounds(j); // for the probe's first guess
+        tProbe.rho = A[i];
         const r = s.next(probe, st);
         if (r === SEARCH_PROBE) {
           active[kept++] = j;
           continue;
         }
-        res.iterations[i] = Math.min(s.iterations, 65535);
-        if (r === STATUS.OK || r === STATUS.NOT_MONOTONE) {
-          res.temperature[i] = T;
-          batch.store(i, k);
-          res.conditionNumber[i] = probe.scale / Math.abs(probe.fy);
-          markSolved(res, i, r, problem, keyA, keyB);
-        } else {
-          failPoint(res, i, r === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_MONOTONE : r, failureMessage(r, problem, A[i], B[i], q, s, s.iterations));
+        let result: number = r;
+        if (forDensity && (r === STATUS.OK || r === STATUS.NOT_MONOTONE)) {
+          // P(ρ) at fixed T is not monotone where the Coulomb term wins: check this isotherm as `invert`'s
+          // loop does (with the JavaScript kernel: this batch's output keeps the state at the solution)
+          ctx.abar = comp.abar[i];
+          ctx.zbar = comp.zbar[i];
+          ctx.row = i;
+          scan.run(B[i], A[i], comp.zmax[i]);
+          s.iterations += scan.evaluations;
+          if (scan.status > 0) result = scan.status;
+          else if (!scan.unique) result = STATUS.NOT_MONOTONE;
+          else if (r === STATUS.NOT_MONOTONE && scan.monotone) result = STATUS.OK;
         }
+        res.iterations[i] = Math.min(s.iterations, 65535);
+        if (result === STATUS.OK || result === STATUS.NOT_MONOTONE) solved(i, k, result);
+        else fail(i, j, result);
       }
       nActive = kept;
     }

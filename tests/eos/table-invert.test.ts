@@ -182,9 +182,9 @@ test('(P, T) → ρ of hot dilute pair- and radiation-dominated matter (ρYe 1e-
   }
 });
 
-test('(ρ, ·) → T runs in batches: 1 300 points over three chunks with a nuclide mixture; every solved point holds exactly evaluate\'s table state at its (ρ, T), failures keep their own statuses', () => {
-  // (ρ, ·) → T with method "table" evaluates all unfinished points of a 512-point chunk in one call of
-  // the WebAssembly loop per round; each point's state is the last one its search evaluated.
+// (ρ, ·) → T and (P, T) → ρ with method "table" evaluate all unfinished points of a 512-point chunk in
+// one call of the WebAssembly loop per round; each point's state is the last one its search evaluated.
+{
   const M = 1300;
   const r2 = mulberry32(2718);
   const rho = new Float64Array(M), T = new Float64Array(M);
@@ -199,42 +199,72 @@ test('(ρ, ·) → T runs in batches: 1 300 points over three chunks with a nucl
   const nuclides = [{ a: 1, z: 1, massFraction: xH }, { a: 4, z: 2, massFraction: xHe }, { a: 12, z: 6, massFraction: xC }];
   const tOpts = { method: 'table' as const, table, maxwellResiduals: true };
   const fwd = evaluate({ density: rho, temperature: T, nuclides }, tOpts);
-  const given = { density: Float64Array.from(rho), specificEnergy: Float64Array.from(fwd.specificEnergy) };
-  // failures among the points, in every chunk: bad inputs, a density inside the domain but outside the table
-  // (ρ = 1e-12 g/cm³ with Ye < 1 is below its ρYe edge), an unreachable target
-  const bad = new Map<number, number>();
-  for (let i = 7; i < M; i += 97) { given.density[i] = NaN; bad.set(i, STATUS.INVALID_NUMBER); }
-  for (let i = 30; i < M; i += 113) { given.density[i] = 1e-12; bad.set(i, STATUS.TABLE_OUT_OF_RANGE); }
-  for (let i = 61; i < M; i += 211) { given.specificEnergy[i] = -Math.abs(fwd.specificEnergy[i]) * 1e3; bad.set(i, STATUS.NO_SOLUTION_BELOW_DOMAIN); }
-  const r = invert({ ...given, nuclides }, tOpts);
-  const at = evaluate({ density: r.density, temperature: r.temperature, nuclides }, tOpts);
   const columns = ['pressure', 'specificEnergy', 'specificEntropy', 'dPdRho', 'dPdT', 'dEdRho', 'dEdT', 'dSdRho', 'dSdT',
     'dPdAbar', 'dPdZbar', 'dEdAbar', 'dEdZbar', 'cv', 'cp', 'gamma1', 'gamma3', 'chiRho', 'chiT', 'nablaAd',
     'soundSpeed', 'eta', 'electronDensity', 'positronDensity', 'coulombGamma', 'radiationPressureFraction'] as const;
-  let solved = 0;
-  for (let i = 0; i < M; i++) {
-    if (bad.has(i)) {
-      assert.equal(r.status[i], bad.get(i), `point ${i}: status ${r.status[i]} ${r.messages[i]}`);
-      assert.equal(r.converged[i], 0);
-      assert.ok(Number.isNaN(r.pressure[i]) && r.messages[i] !== '', `point ${i}: failed points carry NaN and a message`);
-      continue;
-    }
-    if (r.converged[i] !== 1) continue;
-    solved++;
-    assert.equal(at.status[i], STATUS.OK);
-    for (const c of columns) assert.ok(Object.is(r[c][i], at[c][i]), `point ${i} ${c}: ${r[c][i]} vs evaluate ${at[c][i]}`);
-    for (const comp of COMPONENT_NAMES) {
-      for (const c of ['pressure', 'specificEnergy', 'specificEntropy', 'dPdRho', 'dEdT', 'dSdRho'] as const) {
-        assert.ok(Object.is(r.components[comp][c][i], at.components[comp][c][i]), `point ${i} ${comp}.${c}`);
+  const cases: Array<[InverseProblem, 'density' | 'pressure', 'specificEnergy' | 'temperature']> = [
+    ['density-energy', 'density', 'specificEnergy'],
+    ['pressure-temperature', 'pressure', 'temperature'],
+  ];
+  for (const [problem, ka, kb] of cases) {
+    test(`${problem} runs in batches: 1 300 points over three chunks with a nuclide mixture; every solved point holds exactly evaluate's table state at its (ρ, T), failures keep their own statuses`, () => {
+      const given = { [ka]: Float64Array.from(ka === 'density' ? rho : fwd.pressure), [kb]: Float64Array.from(kb === 'temperature' ? T : fwd.specificEnergy) } as Record<string, Float64Array>;
+      // failures among the points, in every chunk: bad inputs, a density inside the domain but outside the
+      // table (ρ = 1e-12 g/cm³ with Ye < 1 is below its ρYe edge), a target no state reaches
+      const bad = new Map<number, number>();
+      for (let i = 7; i < M; i += 97) { given[ka][i] = NaN; bad.set(i, ka === 'density' ? STATUS.INVALID_NUMBER : STATUS.TARGET_INVALID); }
+      if (ka === 'density') for (let i = 30; i < M; i += 113) { given[ka][i] = 1e-12; bad.set(i, STATUS.TABLE_OUT_OF_RANGE); }
+      if (kb === 'specificEnergy') for (let i = 61; i < M; i += 211) { given[kb][i] = -Math.abs(fwd.specificEnergy[i]) * 1e3; bad.set(i, STATUS.NO_SOLUTION_BELOW_DOMAIN); }
+      else for (let i = 61; i < M; i += 211) { given[ka][i] = 1e60; bad.set(i, STATUS.NO_SOLUTION_ABOVE_DOMAIN); }
+      // cold states where the Coulomb term outweighs the ideal gases have P ≤ 0: no pressure target
+      if (ka === 'pressure') for (let i = 0; i < M; i++) if (!bad.has(i) && !(given[ka][i] > 0)) bad.set(i, STATUS.TARGET_INVALID);
+      const r = invert({ ...given, nuclides } as never, tOpts);
+      const at = evaluate({ density: r.density, temperature: r.temperature, nuclides }, tOpts);
+      let solved = 0, scanned = 0;
+      for (let i = 0; i < M; i++) {
+        if (bad.has(i)) {
+          assert.equal(r.status[i], bad.get(i), `point ${i}: status ${r.status[i]} ${r.messages[i]}`);
+          assert.equal(r.converged[i], 0);
+          assert.ok(Number.isNaN(r.pressure[i]) && r.messages[i] !== '', `point ${i}: failed points carry NaN and a message`);
+          continue;
+        }
+        if (r.converged[i] !== 1) continue;
+        solved++;
+        if (r.iterations[i] > 40) scanned++;
+        assert.equal(at.status[i], STATUS.OK);
+        for (const c of columns) assert.ok(Object.is(r[c][i], at[c][i]), `point ${i} ${c}: ${r[c][i]} vs evaluate ${at[c][i]}`);
+        for (const comp of COMPONENT_NAMES) {
+          for (const c of ['pressure', 'specificEnergy', 'specificEntropy', 'dPdRho', 'dEdT', 'dSdRho'] as const) {
+            assert.ok(Object.is(r.components[comp][c][i], at.components[comp][c][i]), `point ${i} ${comp}.${c}`);
+          }
+        }
+        assert.equal(r.warnings[i], at.warnings[i], `point ${i}: warnings`);
+        for (const c of ['energy', 'entropyT', 'entropyRho'] as const) assert.ok(Object.is(r.maxwell![c][i], at.maxwell![c][i]), `point ${i}: Maxwell ${c}`);
+        // the solution: the state the target came from, to the tolerance or the rounding floor, where the
+        // table determines it (κ ≤ KAPPA_MAX, see the header) and P(ρ) is monotone (else another state may give the same P)
+        if (r.status[i] === STATUS.NOT_MONOTONE || r.conditionNumber[i] > KAPPA_MAX) continue;
+        const bound = Math.max(GOAL, FLOOR_ULPS * EPS * r.conditionNumber[i]);
+        const [got, want] = problem === 'pressure-temperature' ? [r.density[i], rho[i]] : [r.temperature[i], T[i]];
+        assert.ok(rel(got, want) <= bound, `point ${i}: ${got} vs ${want} (κ ${r.conditionNumber[i]})`);
       }
-    }
-    assert.equal(r.warnings[i], at.warnings[i], `point ${i}: warnings`);
-    for (const c of ['energy', 'entropyT', 'entropyRho'] as const) assert.ok(Object.is(r.maxwell![c][i], at.maxwell![c][i]), `point ${i}: Maxwell ${c}`);
-    // the solution: the target reached (well-conditioned here: κ = Σ|e_k| / (T c_v))
-    const bound = Math.max(GOAL, FLOOR_ULPS * EPS * r.conditionNumber[i]);
-    assert.ok(rel(r.temperature[i], T[i]) <= bound, `point ${i}: T ${r.temperature[i]} vs ${T[i]} (κ ${r.conditionNumber[i]})`);
+      const good = M - bad.size;
+      assert.ok(solved === good, `${solved} of ${good} valid points solved`);
+      console.log(`# batched ${problem}: ${solved} of ${good} valid points solved (${scanned} with an isotherm scan), ${bad.size} failures with their statuses; mean ${(Array.from(r.iterations).reduce((x, y) => x + y, 0) / M).toFixed(1)} evaluations a point`);
+    });
   }
-  const good = M - bad.size;
-  assert.ok(solved === good, `${solved} of ${good} valid points solved`);
-  console.log(`# batched (ρ, e) → T: ${solved} of ${good} valid points solved, ${bad.size} failures with their statuses; mean ${(Array.from(r.iterations).reduce((s, x) => s + x, 0) / M).toFixed(1)} evaluations a point`);
+}
+
+test('(P, T) → ρ with the table where the Coulomb correction makes P(ρ) non-monotone: NOT_MONOTONE with a valid solution, in a batch with unique answers', () => {
+  // the Fe-like isotherm of tests/eos/invert.test.ts (a shallow dip in P(ρ) near ρ ≈ 30 g/cm³ at 1.61e6 K)
+  const Tn = 1.61e6, A = 35.6, Z = 29.9;
+  const dip = evaluate({ density: [10, 31.6, 100], temperature: Tn, abar: A, zbar: Z }, { method: 'table', table });
+  assert.ok(dip.dPdRho[1] < 0, 'the table has the dip too');
+  const targets = [4.36e14, 1e20, 1e20];
+  const r = invert({ pressure: targets, temperature: [Tn, Tn, 1e8], abar: A, zbar: Z }, { method: 'table', table });
+  assert.deepEqual([...r.status], [STATUS.NOT_MONOTONE, STATUS.OK, STATUS.OK], r.messages.join(' | '));
+  assert.deepEqual([...r.converged], [1, 1, 1]);
+  assert.match(r.messages[0], /not monotone/);
+  for (let i = 0; i < 3; i++) assert.ok(Math.abs(r.pressure[i] / targets[i] - 1) < 1e-12, `point ${i}: P ${r.pressure[i]}`);
+  // the scanned isotherms took their scan's evaluations and one more at the solution; the hot one none
+  assert.ok(r.iterations[0] > 20 && r.iterations[1] > 20 && r.iterations[2] < 20, `evaluations ${[...r.iterations]}`);
 });
