@@ -47,10 +47,11 @@ import {
 } from './state.js';
 import { toFloat64Column, type Column, type CompositionInput, type ResolvedComposition } from './composition.js';
 import { RADIATION_A } from './constants.js';
-import { electronCoupling } from './coulomb.js';
 import type { TableGrid } from './free-energy-table.js';
 import { EPS, MAX_LOG_STEP, Mode, NOT_MONOTONE_NO_SOLUTION, PROBE_OK, PROBE_TOO_HIGH, PROBE_TOO_LOW, Probe, SEARCH_PROBE, Solver1D } from './invert-search.js';
-import { COLUMN, TABLE_PROBE_CHUNK, TableProbeBatch } from './table-probe.js';
+import { COLUMN, COMPONENT, TABLE_PROBE_CHUNK, TableProbeBatch } from './table-probe.js';
+import { IsothermScan, SCAN_EVALUATE, type IsothermSample } from './isotherm-scan.js';
+export { COULOMB_INSTABILITY_T_MAX, coulombInstabilityTMax } from './isotherm-scan.js';
 
 export type InverseProblem =
   | 'density-energy'
@@ -273,133 +274,17 @@ class IsentropeProbe extends Probe {
   }
 }
 
-/**
- * Highest temperature at which ∂P/∂ρ|_T ≤ 0 occurs anywhere in the domain, measured on fine ρ-T
- * grids: 5.6e3 K for Z = 1, 2.2e4 K (Z = 2), 1.4e5 K (Z = 6), 1.3e6 K (Z = 26), 4.0e6 K (Z = 60),
- * 1.0e7 K (Z = 120), nearly independent of A. Isotherms above min(2e7, 1.2e4·Z_max²) K — at least
- * twice the measured limits — are monotone and are not scanned.
- */
-export const COULOMB_INSTABILITY_T_MAX = 2e7;
-export function coulombInstabilityTMax(zmax: number): number {
-  return Math.min(COULOMB_INSTABILITY_T_MAX, 1.2e4 * zmax * zmax);
-}
-const SCAN_STEP = 0.25 * Math.LN10;
-
-/**
- * Is P(ρ) = P* unique on the isotherm T? Scans ln ρ upward in steps of 0.25 dex from where the
- * coupling Γ(ρ) reaches (1 + Z)/3 (below, the ideal gases dominate and P rises with ρ) until the
- * electrons are degenerate and outweigh the Coulomb term by 20. A step whose secant slope falls
- * below half the smaller end slope is bisected (up to 4 times), so narrow dips are not missed.
- * If P decreases somewhere, P* is ambiguous when it lies between the local minimum and maximum,
- * bounded from the samples and their slopes (and widened by 5% of their difference).
- */
-class IsothermScan {
-  status = 0;
-  unique = true;
-  monotone = true;
-  evaluations = 0;
-  private prevP = NaN;
-  private prevS = NaN;
-  private prevX = NaN;
-  private pMax = -Infinity;
-  private pMin = Infinity;
-  private sawDip = false;
-  private T = NaN;
-  constructor(private ctx: PointContext) {}
-
-  run(T: number, target: number, zmax: number): void {
-    this.status = 0;
-    this.unique = true;
-    this.monotone = true;
-    this.evaluations = 0;
-    this.prevP = NaN;
-    this.prevS = NaN;
-    this.prevX = NaN;
-    this.pMax = -Infinity;
-    this.pMin = Infinity;
-    this.sawDip = false;
-    this.T = T;
-    const ctx = this.ctx;
-    const z = Math.max(zmax, ctx.zbar);
-    if (T > coulombInstabilityTMax(z)) return;
-    const ge1 = electronCoupling(1, T, ctx.zbar / ctx.abar);
-    const g0 = (1 + ctx.zbar) / 3 / (Math.pow(z, 5 / 3) * ge1);
-    let x = Math.max(bounds.lnRhoMin, 3 * Math.log(g0));
-    if (x >= bounds.lnRhoMax) return;
-    if (!this.sample(x)) return;
-    let p1 = this.ctx.kernel.total.P;
-    let s1 = this.ctx.rho * this.ctx.kernel.total.dPdRho;
-    while (x < bounds.lnRhoMax) {
-      const x2 = Math.min(bounds.lnRhoMax, x + SCAN_STEP);
-      if (!this.segment(x, p1, s1, x2, 0)) return;
-      const t = this.ctx.kernel.total;
-      p1 = t.P;
-      s1 = this.ctx.rho * t.dPdRho;
-      x = x2;
-      if (this.ctx.kernel.pair.eta > 20 && t.dPdRho > 0 && t.P > 20 * Math.abs(this.ctx.kernel.coulomb.P)) break;
-    }
-    if (!this.sawDip) return;
-    this.monotone = false;
-    const pad = 0.05 * Math.abs(this.pMax - this.pMin);
-    this.unique = !(target >= this.pMin - pad && target <= this.pMax + pad);
-  }
-
-  /** Evaluate at x2 (after refining [x1, x2] if needed); on return the kernel holds x2. */
-  private segment(x1: number, p1: number, s1: number, x2: number, depth: number): boolean {
-    if (!this.evaluate(x2)) return false;
-    const t = this.ctx.kernel.total;
-    const p2 = t.P;
-    const s2 = this.ctx.rho * t.dPdRho;
-    const secant = (p2 - p1) / (x2 - x1);
-    if (depth < 4 && s1 > 0 && s2 > 0 && secant < 0.5 * Math.min(s1, s2)) {
-      const xm = 0.5 * (x1 + x2);
-      // refine: left half (feeds samples in order), then the right half
-      if (!this.segment(x1, p1, s1, xm, depth + 1)) return false;
-      const tm = this.ctx.kernel.total;
-      return this.segment(xm, tm.P, this.ctx.rho * tm.dPdRho, x2, depth + 1);
-    }
-    this.observe(p2, s2);
-    return true;
-  }
-
-  private sample(x: number): boolean {
-    if (!this.evaluate(x)) return false;
-    const t = this.ctx.kernel.total;
-    this.observe(t.P, this.ctx.rho * t.dPdRho);
-    return true;
-  }
-
-  private evaluate(x: number): boolean {
-    const st = this.ctx.compute(Math.exp(Math.min(x, bounds.lnRhoMax)), this.T);
-    this.evaluations++;
-    if (st !== STATUS.OK) {
-      this.status = st;
-      return false;
-    }
-    return true;
-  }
-
-  private observe(p: number, slope: number): void {
-    const x = Math.log(this.ctx.rho);
-    const decreasing = !(slope > 0) || p <= this.prevP;
-    if (decreasing) {
-      // Bound the local extremes between samples by a first-order step from the neighbours: a
-      // conservative widening (it may flag a few unique targets as ambiguous, never the reverse
-      // for dips resolved by the samples).
-      if (!this.sawDip && Number.isFinite(this.prevP)) {
-        this.pMax = Math.max(this.pMax, this.prevP + Math.max(this.prevS, 0) * (x - this.prevX));
-      }
-      this.sawDip = true;
-      this.pMax = Math.max(this.pMax, p);
-      this.pMin = Math.min(this.pMin, p - Math.abs(Math.min(slope, 0)) * SCAN_STEP, p);
-    } else if (!this.sawDip) {
-      this.pMax = p;
-    }
-    this.prevP = p;
-    this.prevS = slope;
-    this.prevX = x;
+/** The isotherm scan of one point with the per-point kernel (ctx holds the point's composition). */
+function scanIsotherm(scan: IsothermScan, ctx: PointContext, T: number, target: number, zmax: number): void {
+  let r = scan.start(T, target, zmax, ctx.abar, ctx.zbar, bounds.lnRhoMin, bounds.lnRhoMax);
+  const k = ctx.kernel;
+  while (r === SCAN_EVALUATE) {
+    const st = ctx.compute(scan.density(), T);
+    SAMPLE.rho = ctx.rho; SAMPLE.P = k.total.P; SAMPLE.dPdRho = k.total.dPdRho; SAMPLE.eta = k.pair.eta; SAMPLE.coulombP = k.coulomb.P;
+    r = scan.next(st, SAMPLE);
   }
 }
+const SAMPLE: IsothermSample = { rho: NaN, P: NaN, dPdRho: NaN, eta: NaN, coulombP: NaN };
 
 const NEWTON_FALLBACK = -100;
 
@@ -532,11 +417,11 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
   const innerTProbe = new TemperatureProbe(ctx);
   const sProbe = new IsentropeProbe(ctx, inner, innerTProbe);
   const newton = new Newton2D(maxEval);
-  const scan = new IsothermScan(ctx);
+  const scan = new IsothermScan();
   outer.maxStep = problem === 'pressure-entropy' ? 30 : MAX_LOG_STEP;
   if (kernel.table !== null && problem !== 'pressure-entropy') {
     const batch = new TableProbeBatch(kernel.table, inc, relativistic, ctx.mixture);
-    solveInBatches(res, problem, keyA, keyB, A, B, comp, batch, ctx, tProbe, dProbe, scan, outer.edgeFloor, tol, maxEval);
+    solveInBatches(res, problem, keyA, keyB, A, B, comp, batch, tProbe, dProbe, outer.edgeFloor, tol, maxEval);
     return res;
   }
 
@@ -564,7 +449,7 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
       if (st === STATUS.OK || st === STATUS.NOT_MONOTONE) {
         // P(ρ) at fixed T is not monotone where the Coulomb term wins: check this isotherm.
         const rhoStar = ctx.rho;
-        scan.run(b, a, comp.zmax[i]);
+        scanIsotherm(scan, ctx, b, a, comp.zmax[i]);
         outer.iterations += scan.evaluations;
         if (scan.status > 0) st = scan.status;
         else {
@@ -630,14 +515,14 @@ function markSolved(res: InvertResult, i: number, st: number, problem: InversePr
  * next temperature or density in one call of the WebAssembly loop (evaluate's table method) instead
  * of one JavaScript per-point evaluation each (~1.4 µs). A solved point's state is that loop's answer
  * at its (ρ, T), bit for bit what `evaluate` gives there (tests/eos/table-invert.test.ts). (P, T) → ρ
- * then checks the isotherm as the per-point loop does (IsothermScan, point by point with the JavaScript
- * kernel: only cold isotherms are scanned); the batch's output keeps the state at the solution, so
- * the per-point loop's re-evaluation there after a scan is not needed (one evaluation fewer).
+ * then checks each isotherm as the per-point loop does (IsothermScan; only cold isotherms are
+ * scanned), the chunk's scans side by side in the same way, and evaluates the scanned points'
+ * solutions once more.
  */
 function solveInBatches(
   res: InvertResult, problem: InverseProblem, keyA: string, keyB: string, A: Float64Array, B: Float64Array,
-  comp: ResolvedComposition, batch: TableProbeBatch, ctx: PointContext, tProbe: TemperatureProbe, dProbe: DensityProbe,
-  scan: IsothermScan, edgeFloor: number, tol: number, maxEval: number,
+  comp: ResolvedComposition, batch: TableProbeBatch, tProbe: TemperatureProbe, dProbe: DensityProbe,
+  edgeFloor: number, tol: number, maxEval: number,
 ): void {
   const n = res.n;
   const forDensity = problem === 'pressure-temperature';
@@ -659,6 +544,21 @@ function solveInBatches(
   const lo = new Float64Array(4 * m0);
   const useBounds = (j: number) => setBounds(lo[4 * j], lo[4 * j + 1], lo[4 * j + 2], lo[4 * j + 3]);
   const active = new Int32Array(m0);
+  // (P, T) → ρ: each point's isotherm scan, the search's status and solution while it runs
+  const scans = forDensity ? Array.from({ length: m0 }, () => new IsothermScan()) : [];
+  const scanning = new Int32Array(forDensity ? m0 : 0);
+  const scanned = new Int32Array(forDensity ? m0 : 0);
+  const searchStatus = new Int32Array(forDensity ? m0 : 0);
+  const rhoStar = new Float64Array(forDensity ? m0 : 0);
+  const sample: IsothermSample = { rho: NaN, P: NaN, dPdRho: NaN, eta: NaN, coulombP: NaN };
+  const fillPoint = (k: number, i: number, rho: number, T: number) => {
+    batch.density[k] = rho;
+    batch.temperature[k] = T;
+    batch.abar[k] = comp.abar[i];
+    batch.zbar[k] = comp.zbar[i];
+    batch.zmax[k] = comp.zmax[i];
+    batch.row[k] = i;
+  };
   const fail = (i: number, j: number, st: number) => {
     useBounds(j);
     failPoint(res, i, st === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_MONOTONE : st, failureMessage(st, problem, A[i], B[i], q, searches[j], searches[j].iterations));
@@ -672,7 +572,7 @@ function solveInBatches(
   };
   for (let from = 0; from < n; from += TABLE_PROBE_CHUNK) {
     const m = Math.min(TABLE_PROBE_CHUNK, n - from);
-    let nActive = 0;
+    let nActive = 0, nScan = 0;
     for (let j = 0; j < m; j++) {
       const i = from + j;
       const a = A[i], b = B[i];
@@ -695,17 +595,8 @@ function solveInBatches(
         const j = active[k], i = from + j;
         const y = searches[j].y;
         useBounds(j);
-        if (forDensity) {
-          batch.density[k] = y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y);
-          batch.temperature[k] = B[i];
-        } else {
-          batch.density[k] = A[i];
-          batch.temperature[k] = y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y);
-        }
-        batch.abar[k] = comp.abar[i];
-        batch.zbar[k] = comp.zbar[i];
-        batch.zmax[k] = comp.zmax[i];
-        batch.row[k] = i;
+        if (forDensity) fillPoint(k, i, y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y), B[i]);
+        else fillPoint(k, i, A[i], y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y));
       }
       batch.run(nActive);
       let kept = 0;
@@ -725,24 +616,71 @@ function solveInBatches(
           active[kept++] = j;
           continue;
         }
-        let result: number = r;
         if (forDensity && (r === STATUS.OK || r === STATUS.NOT_MONOTONE)) {
-          // P(ρ) at fixed T is not monotone where the Coulomb term wins: check this isotherm as `invert`'s
-          // loop does (with the JavaScript kernel: this batch's output keeps the state at the solution)
-          ctx.abar = comp.abar[i];
-          ctx.zbar = comp.zbar[i];
-          ctx.row = i;
-          scan.run(B[i], A[i], comp.zmax[i]);
-          s.iterations += scan.evaluations;
-          if (scan.status > 0) result = scan.status;
-          else if (!scan.unique) result = STATUS.NOT_MONOTONE;
-          else if (r === STATUS.NOT_MONOTONE && scan.monotone) result = STATUS.OK;
+          // P(ρ) at fixed T is not monotone where the Coulomb term wins: check this isotherm as `invert`'s loop does
+          const sc = scans[j];
+          if (sc.start(B[i], A[i], comp.zmax[i], comp.abar[i], comp.zbar[i], bounds.lnRhoMin, bounds.lnRhoMax) === SCAN_EVALUATE) {
+            // scanned below, then the solution evaluated again (the batch's output will have moved on)
+            searchStatus[j] = r;
+            rhoStar[j] = batch.density[k];
+            scanning[nScan++] = j;
+            continue;
+          }
         }
+        // no scan (or one that ended without evaluating: a monotone isotherm): this batch's output is the solution's state
+        const result = forDensity && r === STATUS.NOT_MONOTONE ? STATUS.OK : r;
         res.iterations[i] = Math.min(s.iterations, 65535);
         if (result === STATUS.OK || result === STATUS.NOT_MONOTONE) solved(i, k, result);
         else fail(i, j, result);
       }
       nActive = kept;
+    }
+    // the isotherm scans of this chunk, side by side: each round evaluates every unfinished scan's next density
+    let nDone = 0;
+    while (nScan > 0) {
+      for (let k = 0; k < nScan; k++) {
+        const j = scanning[k], i = from + j;
+        fillPoint(k, i, scans[j].density(), B[i]);
+      }
+      batch.run(nScan);
+      let kept = 0;
+      for (let k = 0; k < nScan; k++) {
+        const j = scanning[k];
+        const st = batch.status(k);
+        if (st === STATUS.OK) {
+          sample.rho = batch.density[k];
+          sample.P = batch.value(k, COLUMN.pressure);
+          sample.dPdRho = batch.value(k, COLUMN.dPdRho);
+          sample.eta = batch.value(k, COLUMN.eta);
+          sample.coulombP = batch.componentValue(k, COMPONENT.coulomb, COLUMN.pressure);
+        }
+        if (scans[j].next(st, sample) === SCAN_EVALUATE) scanning[kept++] = j;
+        else scanned[nDone++] = j;
+      }
+      nScan = kept;
+    }
+    if (nDone > 0) {
+      // the solutions of the scanned points, evaluated again (as the per-point loop does after its scan)
+      for (let k = 0; k < nDone; k++) {
+        const j = scanned[k], i = from + j;
+        fillPoint(k, i, rhoStar[j], B[i]);
+      }
+      batch.run(nDone);
+      for (let k = 0; k < nDone; k++) {
+        const j = scanned[k], i = from + j, s = searches[j], sc = scans[j];
+        s.iterations += sc.evaluations;
+        let result = searchStatus[j];
+        if (sc.status > 0) result = sc.status;
+        else {
+          if (!sc.unique) result = STATUS.NOT_MONOTONE;
+          else if (result === STATUS.NOT_MONOTONE && sc.monotone) result = STATUS.OK;
+          s.iterations++;
+          if (batch.status(k) !== STATUS.OK) result = batch.status(k);
+        }
+        res.iterations[i] = Math.min(s.iterations, 65535);
+        if (result === STATUS.OK || result === STATUS.NOT_MONOTONE) solved(i, k, result);
+        else fail(i, j, result);
+      }
     }
   }
 }

@@ -18,7 +18,10 @@ const PER_COMPONENT = OUTPUT_COMPONENT_COLUMNS.length;
 /** Column indices in the loop's output. */
 export const COLUMN = Object.freeze({
   pressure: 0, specificEnergy: 1, specificEntropy: 2, dPdRho: 3, dPdT: 4, dEdRho: 5, dEdT: 6, dSdRho: 7, dSdT: 8,
+  eta: OUTPUT_COLUMNS.indexOf('eta'),
 });
+/** Component indices (the loop's order). */
+export const COMPONENT = Object.freeze({ electrons: 0, positrons: 1, ions: 2, photons: 3, coulomb: 4 });
 
 export class TableProbeBatch {
   readonly density = new Float64Array(TABLE_PROBE_CHUNK);
@@ -61,6 +64,12 @@ export class TableProbeBatch {
   value(k: number, c: number): number {
     const o = this.out!;
     return o.values[o.valuesAt + c * o.stride + k];
+  }
+
+  /** Column c (c < 9) of component j (COMPONENT; 0 where left out) of point k. */
+  componentValue(k: number, j: number, c: number): number {
+    const o = this.out!;
+    return o.values[o.valuesAt + (TOTALS + PER_COMPONENT * j + c) * o.stride + k];
   }
 
   /** Σ over the components of |column c| (c < 9; components left out are 0): the rounding-floor scale. */
