@@ -5,14 +5,13 @@
  * inversion reads what its search needs (a total, its T-derivative, the summed magnitudes of the
  * component terms) and stores a solved point's whole state into its result. No allocation per run.
  */
-import { STATUS, storeMaxwellResiduals, tableBatchEngine, tableBatchFlags, type EvaluateResult, type IncludeFlags, type MixtureData } from './state.js';
+import { COMPONENT_NAMES, STATUS, storeMaxwellResiduals, tableBatchEngine, tableBatchFlags, type EvaluateResult, type IncludeFlags, type MixtureData } from './state.js';
 import { OUTPUT_COLUMNS, OUTPUT_COMPONENT_COLUMNS, type TableBatchOutput } from './wasm/table-batch.js';
 import type { FreeEnergyTable } from './free-energy-table.js';
 
 /** Points per run (as evaluate's chunks: the loop's outputs stay in the core's L2 cache). */
 export const TABLE_PROBE_CHUNK = 512;
 
-const COMPONENTS = ['electrons', 'positrons', 'ions', 'photons', 'coulomb'] as const;
 const TOTALS = OUTPUT_COLUMNS.length;
 const PER_COMPONENT = OUTPUT_COMPONENT_COLUMNS.length;
 /** Column indices in the loop's output. */
@@ -20,7 +19,7 @@ export const COLUMN = Object.freeze({
   pressure: 0, specificEnergy: 1, specificEntropy: 2, dPdRho: 3, dPdT: 4, dEdRho: 5, dEdT: 6, dSdRho: 7, dSdT: 8,
   eta: OUTPUT_COLUMNS.indexOf('eta'),
 });
-/** Component indices (the loop's order). */
+/** Component indices (the loop's order, that of COMPONENT_NAMES). */
 export const COMPONENT = Object.freeze({ electrons: 0, positrons: 1, ions: 2, photons: 3, coulomb: 4 });
 
 export class TableProbeBatch {
@@ -78,7 +77,7 @@ export class TableProbeBatch {
     const v = o.values, s = o.stride;
     let at = o.valuesAt + (TOTALS + c) * s + k;
     let sum = 0;
-    for (let j = 0; j < COMPONENTS.length; j++, at += PER_COMPONENT * s) sum += Math.abs(v[at]);
+    for (let j = 0; j < COMPONENT_NAMES.length; j++, at += PER_COMPONENT * s) sum += Math.abs(v[at]);
     return sum;
   }
 
@@ -86,7 +85,7 @@ export class TableProbeBatch {
   bind(res: EvaluateResult): void {
     this.res = res;
     this.targets = OUTPUT_COLUMNS.map((c) => res[c]);
-    if (res.breakdown) for (const comp of COMPONENTS) for (const c of OUTPUT_COMPONENT_COLUMNS) this.targets.push(res.components[comp][c]);
+    if (res.breakdown) for (const comp of COMPONENT_NAMES) for (const c of OUTPUT_COMPONENT_COLUMNS) this.targets.push(res.components[comp][c]);
   }
 
   /** Point k's state into row i of the bound result (whose density and temperature hold the point's already). */
