@@ -227,7 +227,27 @@ class DensityProbe extends Probe {
   }
 }
 
-/** f(ln ρ) = P along the isentrope s = s*, via an inner (ρ, s) → T solve. */
+/** What the (P, s) search reads of an evaluation at (ρ, T): the totals and the summed magnitudes of the terms. */
+interface PointValues {
+  rho: number; T: number; P: number; s: number; dPdRho: number; dPdT: number; dSdRho: number; dSdT: number; magP: number; magS: number;
+}
+function newPointValues(): PointValues {
+  return { rho: NaN, T: NaN, P: NaN, s: NaN, dPdRho: NaN, dPdT: NaN, dSdRho: NaN, dSdT: NaN, magP: NaN, magS: NaN };
+}
+/** The per-point kernel's state as PointValues. */
+function kernelValues(ctx: PointContext, v: PointValues): PointValues {
+  const t = ctx.kernel.total;
+  v.rho = ctx.rho; v.T = ctx.T; v.P = t.P; v.s = t.s; v.dPdRho = t.dPdRho; v.dPdT = t.dPdT; v.dSdRho = t.dSdRho; v.dSdT = t.dSdT;
+  v.magP = magnitude(ctx.kernel, Qty.P);
+  v.magS = magnitude(ctx.kernel, Qty.S);
+  return v;
+}
+
+/**
+ * f(ln ρ) = P along the isentrope s = s*, via an inner (ρ, s) → T solve. Resumable: `begin(y)` starts
+ * the inner solve at ln ρ = y (the inner Solver1D's `y` is then the ln T to evaluate), `end` takes the
+ * inner solve's status and the state at its solution; `at` runs both with the per-point kernel.
+ */
 class IsentropeProbe extends Probe {
   entropy = NaN;
   /** Last point found on the isentrope (ln ρ, ln T) and its slope d ln T/d ln ρ there. */
@@ -235,38 +255,50 @@ class IsentropeProbe extends Probe {
   lastLnT = NaN;
   slope = NaN;
   innerNonMonotone = false;
-  constructor(private ctx: PointContext, private inner: Solver1D, private tProbe: TemperatureProbe) { super(); }
+  /** The outer coordinate being evaluated and its density. */
+  y = NaN;
+  rho = NaN;
+  private readonly values = newPointValues();
+  constructor(private ctx: PointContext | null, readonly inner: Solver1D, private tProbe: TemperatureProbe) { super(); }
   reset(): void {
     this.lastX = this.lastLnT = this.slope = NaN;
     this.innerNonMonotone = false;
   }
   at(y: number): number {
+    let st = this.begin(y);
+    while (st === SEARCH_PROBE) st = this.inner.next(this.tProbe, this.tProbe.at(this.inner.y));
+    return this.end(st, kernelValues(this.ctx!, this.values));
+  }
+  /** Starts the inner (ρ, s*) → T solve at ln ρ = y; returns SEARCH_PROBE or its final status. */
+  begin(y: number): number {
     const rho = y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y);
-    const tp = this.tProbe;
-    tp.rho = rho;
-    tp.q = Qty.S;
-    let st: number;
+    this.y = y;
+    this.rho = rho;
+    this.tProbe.rho = rho;
+    this.tProbe.q = Qty.S;
     if (Number.isFinite(this.lastLnT)) {
       // follow the isentrope from the last point found: d ln T/d ln ρ|_s = −ρ s_ρ/(T s_T)
       let warm = this.lastLnT + (Number.isFinite(this.slope) ? this.slope * (y - this.lastX) : 0);
       warm = Math.min(bounds.lnTMax, Math.max(bounds.lnTMin, warm));
-      st = this.inner.solve(tp, bounds.lnTMin, bounds.lnTMax, this.entropy, this.entropy > 0 ? Mode.Log : Mode.Linear, warm);
-    } else {
-      st = this.inner.solve(tp, bounds.lnTMin, bounds.lnTMax, this.entropy, Mode.LowerEnd, NaN);
+      return this.inner.start(bounds.lnTMin, bounds.lnTMax, this.entropy, this.entropy > 0 ? Mode.Log : Mode.Linear, warm);
     }
+    return this.inner.start(bounds.lnTMin, bounds.lnTMax, this.entropy, Mode.LowerEnd, NaN);
+  }
+  /** The inner solve ended with st; v: the state at its solution (read when st is OK or NOT_MONOTONE). Returns the probe's status. */
+  end(st: number, v: PointValues): number {
     this.innerNonMonotone = st === STATUS.NOT_MONOTONE;
     // s decreases with ρ at fixed T: no T cold enough means ρ is too low, no T hot enough means too high
     if (st === STATUS.NO_SOLUTION_BELOW_DOMAIN) return PROBE_TOO_LOW;
     if (st === STATUS.NO_SOLUTION_ABOVE_DOMAIN) return PROBE_TOO_HIGH;
     if (st !== STATUS.OK && st !== STATUS.NOT_MONOTONE) return st === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_CONVERGED : st;
-    const t = this.ctx.kernel.total;
-    this.lastX = y;
+    const rho = this.rho;
+    this.lastX = this.y;
     this.lastLnT = this.inner.y;
-    this.slope = -(rho * t.dSdRho) / (this.ctx.T * t.dSdT);
-    this.f = t.P;
+    this.slope = -(rho * v.dSdRho) / (v.T * v.dSdT);
+    this.f = v.P;
     // ρ (∂P/∂ρ)_s = ρ [∂P/∂ρ|_T − ∂P/∂T|_ρ (∂s/∂ρ|_T)/(∂s/∂T|_ρ)]  (= Γ1 P)
-    this.fy = rho * (t.dPdRho - (t.dPdT * t.dSdRho) / t.dSdT);
-    this.scale = magnitude(this.ctx.kernel, Qty.P);
+    this.fy = rho * (v.dPdRho - (v.dPdT * v.dSdRho) / v.dSdT);
+    this.scale = v.magP;
     return PROBE_OK;
   }
   guess(): number {
@@ -288,81 +320,117 @@ const SAMPLE: IsothermSample = { rho: NaN, P: NaN, dPdRho: NaN, eta: NaN, coulom
 
 const NEWTON_FALLBACK = -100;
 
+/** Newton2D `start`/`next`: evaluate at (ρ, T) = (exp(xn), exp(yn)) next. */
+const NEWTON_EVALUATE = -101;
+
 /**
  * Two-dimensional Newton iteration for (P, s) → (ln ρ, ln T) on the residuals (ln P − ln P*,
  * s − s*), with the Jacobian (χ_ρ, χ_T; ρ∂s/∂ρ, T∂s/∂T) from the analytic derivatives (its
  * determinant is c_v Γ1/T·(T/P)·..., positive where matter is stable), steps capped at a factor e²
- * and a backtracking line search on the scaled residual norm. Returns STATUS.OK with the kernel at
- * the solution, a failure status, or NEWTON_FALLBACK with the best point in x, y.
+ * and a backtracking line search on the scaled residual norm. Ends with STATUS.OK with the last
+ * evaluation at the solution, a failure status, or NEWTON_FALLBACK with the best point in x, y.
+ * Resumable: `start` takes the state at (x0, y0), each `next` the evaluation at (xn, yn); `solve`
+ * runs them with the per-point kernel.
  */
 class Newton2D {
   iterations = 0;
   x = NaN;
   y = NaN;
+  /** The trial point to evaluate next (ln ρ, ln T). */
+  xn = NaN;
+  yn = NaN;
+  private it = 0;
+  private lnPT = NaN;
+  private sT = NaN;
+  private stepTol = 0;
+  private dx = 0;
+  private dy = 0;
+  private merit0 = 0;
+  private magS = 0;
+  private small = false;
+  private lambda = 1;
+  private ls = 0;
+  private readonly values = newPointValues();
   constructor(private maxEval: number) {}
+
   solve(ctx: PointContext, pT: number, sT: number, x0: number, y0: number, tol: number): number {
-    const k = ctx.kernel;
-    this.iterations = 0;
-    let x = x0;
-    let y = y0;
-    this.x = x;
-    this.y = y;
-    const stepTol = tol / 8;
-    const lnPT = Math.log(pT);
-    for (let it = 0; it < 40 && this.iterations < this.maxEval; it++) {
-      const t = k.total;
-      const rho = ctx.rho;
-      const T = ctx.T;
-      if (!(t.P > 0)) return NEWTON_FALLBACK;
-      const magP = magnitude(k, Qty.P);
-      const magS = magnitude(k, Qty.S);
-      const f1 = Math.log(t.P) - lnPT;
-      const f2 = t.s - sT;
-      if (Math.abs(f1) <= (4 * EPS * magP) / t.P && Math.abs(f2) <= 4 * EPS * magS) return STATUS.OK;
-      const j11 = (rho * t.dPdRho) / t.P;
-      const j12 = (T * t.dPdT) / t.P;
-      const j21 = rho * t.dSdRho;
-      const j22 = T * t.dSdT;
-      const det = j11 * j22 - j12 * j21;
-      if (!(det > 0)) return NEWTON_FALLBACK;
-      let dx = (-f1 * j22 + f2 * j12) / det;
-      let dy = (-f2 * j11 + f1 * j21) / det;
-      if (Math.abs(dx) <= stepTol && Math.abs(dy) <= stepTol) return STATUS.OK;
-      const m = Math.max(Math.abs(dx), Math.abs(dy));
-      if (m > 2) {
-        dx *= 2 / m;
-        dy *= 2 / m;
-      }
-      const merit0 = f1 * f1 + (f2 / magS) * (f2 / magS);
-      const small = m < 1e-6;
-      let lambda = 1;
-      let accepted = false;
-      for (let ls = 0; ls < 6; ls++) {
-        const xn = Math.min(bounds.lnRhoMax, Math.max(bounds.lnRhoMin, x + lambda * dx));
-        const yn = Math.min(bounds.lnTMax, Math.max(bounds.lnTMin, y + lambda * dy));
-        const st = ctx.compute(Math.exp(xn), Math.exp(yn));
-        this.iterations++;
-        if (st !== STATUS.OK) return st;
-        const tn = k.total;
-        let merit = Infinity;
-        if (tn.P > 0) {
-          const g1 = Math.log(tn.P) - lnPT;
-          const g2 = (tn.s - sT) / magS;
-          merit = g1 * g1 + g2 * g2;
-        }
-        if (small || merit < merit0) {
-          x = xn;
-          y = yn;
-          accepted = true;
-          break;
-        }
-        lambda *= 0.5;
-      }
-      this.x = x;
-      this.y = y;
-      if (!accepted) return NEWTON_FALLBACK;
+    let r = this.start(pT, sT, x0, y0, tol, kernelValues(ctx, this.values));
+    while (r === NEWTON_EVALUATE) {
+      const st = ctx.compute(Math.exp(this.xn), Math.exp(this.yn));
+      r = this.next(st, st === STATUS.OK ? kernelValues(ctx, this.values) : this.values);
     }
+    return r;
+  }
+
+  /** Begins at (x0, y0) whose state is v; returns NEWTON_EVALUATE or the end. */
+  start(pT: number, sT: number, x0: number, y0: number, tol: number, v: PointValues): number {
+    this.iterations = 0;
+    this.it = 0;
+    this.x = x0;
+    this.y = y0;
+    this.stepTol = tol / 8;
+    this.lnPT = Math.log(pT);
+    this.sT = sT;
+    return this.step(v);
+  }
+
+  /** Takes the evaluation at (xn, yn): st, and its state v when st is OK. */
+  next(st: number, v: PointValues): number {
+    this.iterations++;
+    if (st !== STATUS.OK) return st;
+    let merit = Infinity;
+    if (v.P > 0) {
+      const g1 = Math.log(v.P) - this.lnPT;
+      const g2 = (v.s - this.sT) / this.magS;
+      merit = g1 * g1 + g2 * g2;
+    }
+    if (this.small || merit < this.merit0) {
+      // accepted: the next iteration starts here
+      this.x = this.xn;
+      this.y = this.yn;
+      this.it++;
+      return this.step(v);
+    }
+    this.lambda *= 0.5;
+    if (++this.ls < 6) return this.trial();
     return NEWTON_FALLBACK;
+  }
+
+  /** An iteration from the current point (x, y) with state v. */
+  private step(v: PointValues): number {
+    if (!(this.it < 40 && this.iterations < this.maxEval)) return NEWTON_FALLBACK;
+    if (!(v.P > 0)) return NEWTON_FALLBACK;
+    const f1 = Math.log(v.P) - this.lnPT;
+    const f2 = v.s - this.sT;
+    if (Math.abs(f1) <= (4 * EPS * v.magP) / v.P && Math.abs(f2) <= 4 * EPS * v.magS) return STATUS.OK;
+    const j11 = (v.rho * v.dPdRho) / v.P;
+    const j12 = (v.T * v.dPdT) / v.P;
+    const j21 = v.rho * v.dSdRho;
+    const j22 = v.T * v.dSdT;
+    const det = j11 * j22 - j12 * j21;
+    if (!(det > 0)) return NEWTON_FALLBACK;
+    let dx = (-f1 * j22 + f2 * j12) / det;
+    let dy = (-f2 * j11 + f1 * j21) / det;
+    if (Math.abs(dx) <= this.stepTol && Math.abs(dy) <= this.stepTol) return STATUS.OK;
+    const m = Math.max(Math.abs(dx), Math.abs(dy));
+    if (m > 2) {
+      dx *= 2 / m;
+      dy *= 2 / m;
+    }
+    this.dx = dx;
+    this.dy = dy;
+    this.magS = v.magS;
+    this.merit0 = f1 * f1 + (f2 / v.magS) * (f2 / v.magS);
+    this.small = m < 1e-6;
+    this.lambda = 1;
+    this.ls = 0;
+    return this.trial();
+  }
+
+  private trial(): number {
+    this.xn = Math.min(bounds.lnRhoMax, Math.max(bounds.lnRhoMin, this.x + this.lambda * this.dx));
+    this.yn = Math.min(bounds.lnTMax, Math.max(bounds.lnTMin, this.y + this.lambda * this.dy));
+    return NEWTON_EVALUATE;
   }
 }
 
