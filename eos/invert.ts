@@ -33,9 +33,9 @@
  * domain, so edge probes never leave the table (tests/eos/table-invert.test.ts). A target within the
  * table's reported maximum error (P, e, s) of the value at a bracket edge is reached there
  * (`Solver1D.edgeFloor`): hot dilute (P, T) → ρ, where P(ρ) is flat to within that error, failed
- * for ~10–40 % of such points without it. The (ρ, ·) → T and (P, T) → ρ problems run their searches
- * in batches there (`solveInBatches`): the same steps, with every unfinished point's next
- * temperature or density of a 512-point chunk evaluated in one call of the WebAssembly loop.
+ * for ~10–40 % of such points without it. With the table every problem runs in batches
+ * (`solveInBatches`, `solveIsentropesInBatches`): the same steps as the per-point loop, with every
+ * unfinished point's next (ρ, T) of a 512-point chunk evaluated in one call of the WebAssembly loop.
  *
  * Accuracy (tests/eos/invert.test.ts, 10 000 states per problem over the whole domain): round
  * trips ≤ 2.5e-13 where the problem is well conditioned, within the rounding floor elsewhere.
@@ -234,12 +234,12 @@ interface PointValues {
 function newPointValues(): PointValues {
   return { rho: NaN, T: NaN, P: NaN, s: NaN, dPdRho: NaN, dPdT: NaN, dSdRho: NaN, dSdT: NaN, magP: NaN, magS: NaN };
 }
-/** The per-point kernel's state as PointValues. */
-function kernelValues(ctx: PointContext, v: PointValues): PointValues {
-  const t = ctx.kernel.total;
-  v.rho = ctx.rho; v.T = ctx.T; v.P = t.P; v.s = t.s; v.dPdRho = t.dPdRho; v.dPdT = t.dPdT; v.dSdRho = t.dSdRho; v.dSdT = t.dSdT;
-  v.magP = magnitude(ctx.kernel, Qty.P);
-  v.magS = magnitude(ctx.kernel, Qty.S);
+/** The per-point kernel's state at (rho, T) as PointValues. */
+function kernelValues(k: PointKernel, rho: number, T: number, v: PointValues): PointValues {
+  const t = k.total;
+  v.rho = rho; v.T = T; v.P = t.P; v.s = t.s; v.dPdRho = t.dPdRho; v.dPdT = t.dPdT; v.dSdRho = t.dSdRho; v.dSdT = t.dSdT;
+  v.magP = magnitude(k, Qty.P);
+  v.magS = magnitude(k, Qty.S);
   return v;
 }
 
@@ -267,7 +267,7 @@ class IsentropeProbe extends Probe {
   at(y: number): number {
     let st = this.begin(y);
     while (st === SEARCH_PROBE) st = this.inner.next(this.tProbe, this.tProbe.at(this.inner.y));
-    return this.end(st, kernelValues(this.ctx!, this.values));
+    return this.end(st, kernelValues(this.ctx!.kernel, this.ctx!.rho, this.ctx!.T, this.values));
   }
   /** Starts the inner (ρ, s*) → T solve at ln ρ = y; returns SEARCH_PROBE or its final status. */
   begin(y: number): number {
@@ -354,10 +354,10 @@ class Newton2D {
   constructor(private maxEval: number) {}
 
   solve(ctx: PointContext, pT: number, sT: number, x0: number, y0: number, tol: number): number {
-    let r = this.start(pT, sT, x0, y0, tol, kernelValues(ctx, this.values));
+    let r = this.start(pT, sT, x0, y0, tol, kernelValues(ctx.kernel, ctx.rho, ctx.T, this.values));
     while (r === NEWTON_EVALUATE) {
       const st = ctx.compute(Math.exp(this.xn), Math.exp(this.yn));
-      r = this.next(st, st === STATUS.OK ? kernelValues(ctx, this.values) : this.values);
+      r = this.next(st, st === STATUS.OK ? kernelValues(ctx.kernel, ctx.rho, ctx.T, this.values) : this.values);
     }
     return r;
   }
@@ -487,9 +487,11 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
   const newton = new Newton2D(maxEval);
   const scan = new IsothermScan();
   outer.maxStep = problem === 'pressure-entropy' ? 30 : MAX_LOG_STEP;
-  if (kernel.table !== null && problem !== 'pressure-entropy') {
+  if (kernel.table !== null) {
     const batch = new TableProbeBatch(kernel.table, inc, relativistic, ctx.mixture);
-    solveInBatches(res, problem, keyA, keyB, A, B, comp, batch, tProbe, dProbe, outer.edgeFloor, tol, maxEval);
+    const bp = new BatchPoints(res, problem, [keyA, keyB], A, B, comp, batch, Math.min(n, TABLE_PROBE_CHUNK));
+    if (problem === 'pressure-entropy') solveIsentropesInBatches(bp, innerTProbe, outer.edgeFloor, tol, maxEval);
+    else solveInBatches(bp, tProbe, dProbe, outer.edgeFloor, tol, maxEval);
     return res;
   }
 
@@ -506,8 +508,6 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
     ctx.abar = comp.abar[i];
     ctx.zbar = comp.zbar[i];
     ctx.row = i;
-    // method "table": search only where the table answers (points outside it get TABLE_OUT_OF_RANGE)
-    if (kernel.table !== null) setTableBounds(kernel.table.grid, comp.ye[i]);
     outer.iterations = 0;
     inner.iterations = 0;
     let qty = Qty.E;
@@ -577,21 +577,95 @@ function markSolved(res: InvertResult, i: number, st: number, problem: InversePr
 }
 
 /**
- * Method "table", (ρ, ·) → T and (P, T) → ρ: the same search as the per-point loop of `invert`
- * (Solver1D in Mode.LowerEnd from the lower edge of the table's bracket, the probe's first guess),
- * run for up to TABLE_PROBE_CHUNK points side by side: each round evaluates every unfinished point's
- * next temperature or density in one call of the WebAssembly loop (evaluate's table method) instead
- * of one JavaScript per-point evaluation each (~1.4 µs). A solved point's state is that loop's answer
- * at its (ρ, T), bit for bit what `evaluate` gives there (tests/eos/table-invert.test.ts). (P, T) → ρ
- * then checks each isotherm as the per-point loop does (IsothermScan; only cold isotherms are
- * scanned), the chunk's scans side by side in the same way, and evaluates the scanned points'
+ * Method "table": the points of an inversion in chunks of TABLE_PROBE_CHUNK, whose evaluations run in
+ * one call of the WebAssembly loop per round (evaluate's table method) instead of one JavaScript
+ * per-point evaluation each (~1.4 µs): what the batched drivers below share — each point's bracket
+ * (the table's grid at its Ye), filling and reading the loop's points, storing a solved point's state
+ * (bit for bit evaluate's answer at its (ρ, T)) or its failure.
+ */
+class BatchPoints {
+  /** Per chunk slot: tMin, tMax, ρMin, ρMax (bounds is one module-level object: set it from these per point). */
+  private readonly lo: Float64Array;
+  constructor(
+    readonly res: InvertResult, readonly problem: InverseProblem, private readonly keys: readonly [string, string],
+    readonly A: Float64Array, readonly B: Float64Array, readonly comp: ResolvedComposition, readonly batch: TableProbeBatch, slots: number,
+  ) {
+    this.lo = new Float64Array(4 * slots);
+    batch.bind(res);
+  }
+
+  /** Point i into slot j: false (and the point failed) when its inputs are refused; else its bracket is set. */
+  prepare(i: number, j: number): boolean {
+    const { res, problem, A, B, comp } = this;
+    if (problem === 'pressure-temperature') res.temperature[i] = B[i];
+    else if (problem !== 'pressure-entropy') res.density[i] = A[i];
+    const st = pointInputStatus(problem, A[i], B[i], comp, i);
+    if (st !== STATUS.OK) {
+      failPoint(res, i, st, pointInputMessage(problem, A[i], B[i], comp, i));
+      return false;
+    }
+    setTableBounds(this.batch.table.grid, comp.ye[i]);
+    const lo = this.lo;
+    lo[4 * j] = bounds.tMin; lo[4 * j + 1] = bounds.tMax; lo[4 * j + 2] = bounds.rhoMin; lo[4 * j + 3] = bounds.rhoMax;
+    return true;
+  }
+
+  useBounds(j: number): void {
+    const lo = this.lo;
+    setBounds(lo[4 * j], lo[4 * j + 1], lo[4 * j + 2], lo[4 * j + 3]);
+  }
+
+  /** Loop point k: point i of the input at (ρ, T). */
+  fill(k: number, i: number, rho: number, T: number): void {
+    const batch = this.batch, comp = this.comp;
+    batch.density[k] = rho;
+    batch.temperature[k] = T;
+    batch.abar[k] = comp.abar[i];
+    batch.zbar[k] = comp.zbar[i];
+    batch.zmax[k] = comp.zmax[i];
+    batch.row[k] = i;
+  }
+
+  /** Loop point k's state as PointValues (after `batch.run`). */
+  values(k: number, v: PointValues): PointValues {
+    const batch = this.batch;
+    v.rho = batch.density[k]; v.T = batch.temperature[k];
+    v.P = batch.value(k, COLUMN.pressure); v.s = batch.value(k, COLUMN.specificEntropy);
+    v.dPdRho = batch.value(k, COLUMN.dPdRho); v.dPdT = batch.value(k, COLUMN.dPdT);
+    v.dSdRho = batch.value(k, COLUMN.dSdRho); v.dSdT = batch.value(k, COLUMN.dSdT);
+    v.magP = batch.magnitude(k, COLUMN.pressure); v.magS = batch.magnitude(k, COLUMN.specificEntropy);
+    return v;
+  }
+
+  /** Point i solved (st OK or NOT_MONOTONE) at loop point k, with condition number κ. */
+  solved(i: number, k: number, st: number, evals: number, kappa: number): void {
+    const res = this.res, batch = this.batch;
+    res.iterations[i] = Math.min(evals, 65535);
+    res.density[i] = batch.density[k];
+    res.temperature[i] = batch.temperature[k];
+    batch.store(i, k);
+    res.conditionNumber[i] = kappa;
+    markSolved(res, i, st, this.problem, this.keys[0], this.keys[1]);
+  }
+
+  /** Point i (slot j) failed with st after evals evaluations; s: its search, for the message. */
+  fail(i: number, j: number, st: number, q: Qty, s: Solver1D, evals: number): void {
+    this.res.iterations[i] = Math.min(evals, 65535);
+    this.useBounds(j);
+    failPoint(this.res, i, st === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_MONOTONE : st, failureMessage(st, this.problem, this.A[i], this.B[i], q, s, evals));
+  }
+}
+
+/**
+ * (ρ, ·) → T and (P, T) → ρ in batches: the same search as the per-point loop of `invert` (Solver1D in
+ * Mode.LowerEnd from the lower edge of the bracket, the probe's first guess), up to TABLE_PROBE_CHUNK
+ * points side by side, each round evaluating every unfinished point's next temperature or density.
+ * (P, T) → ρ then checks each isotherm as the per-point loop does (IsothermScan; only cold isotherms
+ * are scanned), the chunk's scans side by side in the same way, and evaluates the scanned points'
  * solutions once more.
  */
-function solveInBatches(
-  res: InvertResult, problem: InverseProblem, keyA: string, keyB: string, A: Float64Array, B: Float64Array,
-  comp: ResolvedComposition, batch: TableProbeBatch, tProbe: TemperatureProbe, dProbe: DensityProbe,
-  edgeFloor: number, tol: number, maxEval: number,
-): void {
+function solveInBatches(bp: BatchPoints, tProbe: TemperatureProbe, dProbe: DensityProbe, edgeFloor: number, tol: number, maxEval: number): void {
+  const { res, problem, A, B, comp, batch } = bp;
   const n = res.n;
   const forDensity = problem === 'pressure-temperature';
   const q = problem === 'density-energy' ? Qty.E : problem === 'density-entropy' ? Qty.S : Qty.P;
@@ -600,17 +674,12 @@ function solveInBatches(
   const colSlope = forDensity ? COLUMN.dPdRho : q === Qty.E ? COLUMN.dEdT : q === Qty.P ? COLUMN.dPdT : COLUMN.dSdT;
   const probe: Probe = forDensity ? dProbe : tProbe;
   tProbe.q = q;
-  batch.bind(res);
-  const grid = batch.table.grid;
   const m0 = Math.min(n, TABLE_PROBE_CHUNK);
   const searches = Array.from({ length: m0 }, () => {
     const s = new Solver1D(tol, maxEval);
     s.edgeFloor = edgeFloor;
     return s;
   });
-  // each point's bracket: the table's grid at its Ye (bounds is one module-level object: set it from these per point)
-  const lo = new Float64Array(4 * m0);
-  const useBounds = (j: number) => setBounds(lo[4 * j], lo[4 * j + 1], lo[4 * j + 2], lo[4 * j + 3]);
   const active = new Int32Array(m0);
   // (P, T) → ρ: each point's isotherm scan, the search's status and solution while it runs
   const scans = forDensity ? Array.from({ length: m0 }, () => new IsothermScan()) : [];
@@ -619,52 +688,25 @@ function solveInBatches(
   const searchStatus = new Int32Array(forDensity ? m0 : 0);
   const rhoStar = new Float64Array(forDensity ? m0 : 0);
   const sample: IsothermSample = { rho: NaN, P: NaN, dPdRho: NaN, eta: NaN, coulombP: NaN };
-  const fillPoint = (k: number, i: number, rho: number, T: number) => {
-    batch.density[k] = rho;
-    batch.temperature[k] = T;
-    batch.abar[k] = comp.abar[i];
-    batch.zbar[k] = comp.zbar[i];
-    batch.zmax[k] = comp.zmax[i];
-    batch.row[k] = i;
-  };
-  const fail = (i: number, j: number, st: number) => {
-    useBounds(j);
-    failPoint(res, i, st === NOT_MONOTONE_NO_SOLUTION ? STATUS.NOT_MONOTONE : st, failureMessage(st, problem, A[i], B[i], q, searches[j], searches[j].iterations));
-  };
-  const solved = (i: number, k: number, st: number) => {
-    res.density[i] = batch.density[k];
-    res.temperature[i] = batch.temperature[k];
-    batch.store(i, k);
-    res.conditionNumber[i] = batch.magnitude(k, col) / Math.abs((forDensity ? batch.density[k] : batch.temperature[k]) * batch.value(k, colSlope));
-    markSolved(res, i, st, problem, keyA, keyB);
-  };
+  const kappa = (k: number) => batch.magnitude(k, col) / Math.abs((forDensity ? batch.density[k] : batch.temperature[k]) * batch.value(k, colSlope));
   for (let from = 0; from < n; from += TABLE_PROBE_CHUNK) {
     const m = Math.min(TABLE_PROBE_CHUNK, n - from);
     let nActive = 0, nScan = 0;
     for (let j = 0; j < m; j++) {
       const i = from + j;
-      const a = A[i], b = B[i];
-      if (forDensity) res.temperature[i] = b;
-      else res.density[i] = a;
-      const st = pointInputStatus(problem, a, b, comp, i);
-      if (st !== STATUS.OK) {
-        failPoint(res, i, st, pointInputMessage(problem, a, b, comp, i));
-        continue;
-      }
-      setTableBounds(grid, comp.ye[i]);
-      lo[4 * j] = bounds.tMin; lo[4 * j + 1] = bounds.tMax; lo[4 * j + 2] = bounds.rhoMin; lo[4 * j + 3] = bounds.rhoMax;
+      if (!bp.prepare(i, j)) continue;
       searches[j].iterations = 0;
-      if (forDensity) searches[j].start(bounds.lnRhoMin, bounds.lnRhoMax, a, Mode.LowerEnd, NaN);
-      else searches[j].start(bounds.lnTMin, bounds.lnTMax, b, Mode.LowerEnd, NaN);
+      if (forDensity) searches[j].start(bounds.lnRhoMin, bounds.lnRhoMax, A[i], Mode.LowerEnd, NaN);
+      else searches[j].start(bounds.lnTMin, bounds.lnTMax, B[i], Mode.LowerEnd, NaN);
       active[nActive++] = j;
     }
     while (nActive > 0) {
       for (let k = 0; k < nActive; k++) {
         const j = active[k], i = from + j;
         const y = searches[j].y;
-        useBounds(j);
-        if (forDensity) fillPoint(k, i, y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y), B[i]);
-        else fillPoint(k, i, A[i], y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y));
+        bp.useBounds(j);
+        if (forDensity) bp.fill(k, i, y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y), B[i]);
+        else bp.fill(k, i, A[i], y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y));
       }
       batch.run(nActive);
       let kept = 0;
@@ -677,7 +719,7 @@ function solveInBatches(
           probe.scale = batch.magnitude(k, col);
           st = PROBE_OK;
         }
-        useBounds(j); // for the probe's first guess
+        bp.useBounds(j); // for the probe's first guess
         tProbe.rho = A[i];
         const r = s.next(probe, st);
         if (r === SEARCH_PROBE) {
@@ -697,9 +739,8 @@ function solveInBatches(
         }
         // no scan (or one that ended without evaluating: a monotone isotherm): this batch's output is the solution's state
         const result = forDensity && r === STATUS.NOT_MONOTONE ? STATUS.OK : r;
-        res.iterations[i] = Math.min(s.iterations, 65535);
-        if (result === STATUS.OK || result === STATUS.NOT_MONOTONE) solved(i, k, result);
-        else fail(i, j, result);
+        if (result === STATUS.OK || result === STATUS.NOT_MONOTONE) bp.solved(i, k, result, s.iterations, kappa(k));
+        else bp.fail(i, j, result, q, s, s.iterations);
       }
       nActive = kept;
     }
@@ -707,8 +748,8 @@ function solveInBatches(
     let nDone = 0;
     while (nScan > 0) {
       for (let k = 0; k < nScan; k++) {
-        const j = scanning[k], i = from + j;
-        fillPoint(k, i, scans[j].density(), B[i]);
+        const j = scanning[k];
+        bp.fill(k, from + j, scans[j].density(), B[from + j]);
       }
       batch.run(nScan);
       let kept = 0;
@@ -729,10 +770,7 @@ function solveInBatches(
     }
     if (nDone > 0) {
       // the solutions of the scanned points, evaluated again (as the per-point loop does after its scan)
-      for (let k = 0; k < nDone; k++) {
-        const j = scanned[k], i = from + j;
-        fillPoint(k, i, rhoStar[j], B[i]);
-      }
+      for (let k = 0; k < nDone; k++) bp.fill(k, from + scanned[k], rhoStar[scanned[k]], B[from + scanned[k]]);
       batch.run(nDone);
       for (let k = 0; k < nDone; k++) {
         const j = scanned[k], i = from + j, s = searches[j], sc = scans[j];
@@ -745,10 +783,141 @@ function solveInBatches(
           s.iterations++;
           if (batch.status(k) !== STATUS.OK) result = batch.status(k);
         }
-        res.iterations[i] = Math.min(s.iterations, 65535);
-        if (result === STATUS.OK || result === STATUS.NOT_MONOTONE) solved(i, k, result);
-        else fail(i, j, result);
+        if (result === STATUS.OK || result === STATUS.NOT_MONOTONE) bp.solved(i, k, result, s.iterations, kappa(k));
+        else bp.fail(i, j, result, q, s, s.iterations);
       }
+    }
+  }
+}
+
+const enum Stage { FirstSearch, Newton, SecondSearch }
+/** Newton fell back: the outer search runs again at the full tolerance. */
+const SEARCH_AGAIN = -102;
+
+/**
+ * (P, s) → (ρ, T) in batches: the per-point loop's steps for up to TABLE_PROBE_CHUNK points side by
+ * side — the outer search on ln ρ to max(tolerance, 1e-6) whose every probe is an inner (ρ, s*) → T
+ * solve, the 2-D Newton polish, and the outer search again at the full tolerance where Newton falls
+ * back — each round evaluating every unfinished point's next (ρ, T).
+ */
+function solveIsentropesInBatches(bp: BatchPoints, tProbe: TemperatureProbe, edgeFloor: number, tol: number, maxEval: number): void {
+  const { res, A, B, batch } = bp;
+  const n = res.n;
+  const m0 = Math.min(n, TABLE_PROBE_CHUNK);
+  const solver = (t: number, maxStep: number) => {
+    const s = new Solver1D(t, maxEval);
+    s.edgeFloor = edgeFloor;
+    s.maxStep = maxStep;
+    return s;
+  };
+  const outers = Array.from({ length: m0 }, () => solver(tol, 30));
+  const probes = Array.from({ length: m0 }, () => new IsentropeProbe(null, solver(tol / 16, MAX_LOG_STEP), tProbe));
+  const newtons = Array.from({ length: m0 }, () => new Newton2D(maxEval));
+  const stage = new Uint8Array(m0);
+  const firstStatus = new Int32Array(m0);
+  const active = new Int32Array(m0);
+  /** The state of the evaluation being taken (read only where it succeeded). */
+  const v = newPointValues();
+
+  /** After Newton's step: SEARCH_PROBE (it needs an evaluation), SEARCH_AGAIN, or the point's status. */
+  const afterNewton = (j: number, rn: number): number => {
+    if (rn === NEWTON_EVALUATE) return SEARCH_PROBE;
+    outers[j].iterations += newtons[j].iterations;
+    if (rn === NEWTON_FALLBACK || rn > 0) return SEARCH_AGAIN;
+    return firstStatus[j]; // polished: the first search's status stands
+  };
+  /** The outer search from its result ro on: SEARCH_PROBE (an inner probe to evaluate) or the point's status. */
+  const drive = (j: number, i: number, ro: number): number => {
+    const outer = outers[j], sp = probes[j];
+    for (;;) {
+      while (ro === SEARCH_PROBE) {
+        const ri = sp.begin(outer.y);
+        if (ri === SEARCH_PROBE) return SEARCH_PROBE;
+        ro = outer.next(sp, sp.end(ri, v)); // an inner solve that ended before evaluating (its budget): no state is read
+      }
+      if (stage[j] === Stage.SecondSearch) return ro;
+      outer.tol = tol;
+      if (!((ro === STATUS.OK || ro === STATUS.NOT_MONOTONE) && tol < 1e-6)) return ro;
+      // polish from the search's last state (the evaluation just taken)
+      firstStatus[j] = ro;
+      stage[j] = Stage.Newton;
+      const r = afterNewton(j, newtons[j].start(A[i], B[i], outer.y, sp.inner.y, tol, v));
+      if (r !== SEARCH_AGAIN) return r;
+      stage[j] = Stage.SecondSearch;
+      ro = outer.start(bounds.lnRhoMin, bounds.lnRhoMax, A[i], Mode.Log, outer.y);
+    }
+  };
+  /** Takes point j's evaluation (st; v when OK): SEARCH_PROBE or the point's status. */
+  const take = (j: number, i: number, st: number): number => {
+    const sp = probes[j];
+    if (stage[j] === Stage.Newton) {
+      const r = afterNewton(j, newtons[j].next(st, v));
+      if (r !== SEARCH_AGAIN) return r;
+      stage[j] = Stage.SecondSearch;
+      return drive(j, i, outers[j].start(bounds.lnRhoMin, bounds.lnRhoMax, A[i], Mode.Log, outers[j].y));
+    }
+    // an inner probe: s at (ρ, T)
+    if (st === STATUS.OK) {
+      tProbe.f = v.s;
+      tProbe.fy = v.T * v.dSdT;
+      tProbe.scale = v.magS;
+      st = PROBE_OK;
+    }
+    tProbe.rho = sp.rho; // for the inner search's first guess
+    tProbe.q = Qty.S;
+    const ri = sp.inner.next(tProbe, st);
+    if (ri === SEARCH_PROBE) return SEARCH_PROBE;
+    return drive(j, i, outers[j].next(sp, sp.end(ri, v)));
+  };
+  /** Point i (slot j) ended with r (its last evaluation is loop point k when r is a solution). */
+  const finish = (j: number, i: number, r: number, k: number) => {
+    const outer = outers[j], sp = probes[j];
+    const evals = outer.iterations + sp.inner.iterations;
+    const st = r === STATUS.OK && sp.innerNonMonotone ? STATUS.NOT_MONOTONE : r;
+    if (st === STATUS.OK || st === STATUS.NOT_MONOTONE) bp.solved(i, k, st, evals, isentropeConditionNumber(v));
+    else bp.fail(i, j, st, Qty.P, outer, evals);
+  };
+
+  for (let from = 0; from < n; from += TABLE_PROBE_CHUNK) {
+    const m = Math.min(TABLE_PROBE_CHUNK, n - from);
+    let nActive = 0;
+    for (let j = 0; j < m; j++) {
+      const i = from + j;
+      if (!bp.prepare(i, j)) continue;
+      const outer = outers[j], sp = probes[j];
+      sp.entropy = B[i];
+      sp.reset();
+      outer.iterations = 0;
+      sp.inner.iterations = 0;
+      // nested 1-D solves to 1e-6 first (then Newton), as the per-point loop
+      outer.tol = Math.max(tol, 1e-6);
+      stage[j] = Stage.FirstSearch;
+      const r = drive(j, i, outer.start(bounds.lnRhoMin, bounds.lnRhoMax, A[i], Mode.Log, 0));
+      if (r === SEARCH_PROBE) active[nActive++] = j;
+      else finish(j, i, r, -1); // failed before any evaluation
+    }
+    while (nActive > 0) {
+      for (let k = 0; k < nActive; k++) {
+        const j = active[k], i = from + j;
+        bp.useBounds(j);
+        if (stage[j] === Stage.Newton) bp.fill(k, i, Math.exp(newtons[j].xn), Math.exp(newtons[j].yn));
+        else {
+          const y = probes[j].inner.y;
+          bp.fill(k, i, probes[j].rho, y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y));
+        }
+      }
+      batch.run(nActive);
+      let kept = 0;
+      for (let k = 0; k < nActive; k++) {
+        const j = active[k], i = from + j;
+        const st = batch.status(k);
+        if (st === STATUS.OK) bp.values(k, v);
+        bp.useBounds(j);
+        const r = take(j, i, st);
+        if (r === SEARCH_PROBE) active[kept++] = j;
+        else finish(j, i, r, k);
+      }
+      nActive = kept;
     }
   }
 }
@@ -764,17 +933,19 @@ function conditionNumber(k: PointKernel, problem: InverseProblem, rho: number, T
       return magnitude(k, Qty.S) / Math.abs(T * t.dSdT);
     case 'pressure-temperature':
       return magnitude(k, Qty.P) / Math.abs(rho * t.dPdRho);
-    default: {
-      // J = ∂(P/|P|, s/|s|)/∂(ln ρ, ln T) with |·| the summed magnitudes; κ = ‖J⁻¹‖_∞
-      const mp = magnitude(k, Qty.P);
-      const ms = magnitude(k, Qty.S);
-      const j11 = (rho * t.dPdRho) / mp, j12 = (T * t.dPdT) / mp;
-      const j21 = (rho * t.dSdRho) / ms, j22 = (T * t.dSdT) / ms;
-      const det = j11 * j22 - j12 * j21;
-      return Math.max(Math.abs(j22) + Math.abs(j12), Math.abs(j21) + Math.abs(j11)) / Math.abs(det);
-    }
+    default:
+      return isentropeConditionNumber(kernelValues(k, rho, T, CONDITION_VALUES));
   }
 }
+
+/** κ of (P, s) → (ρ, T): J = ∂(P/|P|, s/|s|)/∂(ln ρ, ln T) with |·| the summed magnitudes; κ = ‖J⁻¹‖_∞. */
+function isentropeConditionNumber(v: PointValues): number {
+  const j11 = (v.rho * v.dPdRho) / v.magP, j12 = (v.T * v.dPdT) / v.magP;
+  const j21 = (v.rho * v.dSdRho) / v.magS, j22 = (v.T * v.dSdT) / v.magS;
+  const det = j11 * j22 - j12 * j21;
+  return Math.max(Math.abs(j22) + Math.abs(j12), Math.abs(j21) + Math.abs(j11)) / Math.abs(det);
+}
+const CONDITION_VALUES = newPointValues();
 
 /** Status of one point's inputs (no allocation). */
 function pointInputStatus(problem: InverseProblem, a: number, b: number, comp: ResolvedComposition, i: number): number {
