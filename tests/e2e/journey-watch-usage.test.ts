@@ -140,7 +140,9 @@ test('journey 3: the group lead watches usage per key and endpoint, exports it, 
 
   // Export: the file is what the API writes for this very choice, and its sums are the table's.
   const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export CSV' }).click()]);
-  assert.match(download.suggestedFilename(), new RegExp(`^usage-${org.id}-${weekFrom}-${weekTo}-day\\.csv$`));
+  // named for the days it covers: the last is the table's last row (the API's range ends the day after)
+  const weekLast = [...week.keys()].at(-1)!;
+  assert.match(download.suggestedFilename(), new RegExp(`^usage-${org.id}-${weekFrom}-${weekLast}-day\\.csv$`));
   const csv = fs.readFileSync((await download.path())!, 'utf8');
   const fromApi = await api.call('GET', `/v1/usage?organisationId=${org.id}&from=${weekFrom}&to=${weekTo}&granularity=day&groupBy=endpoint&format=csv`, undefined, { headers: { accept: 'text/csv' } });
   assert.equal(fromApi.status, 200);
