@@ -61,6 +61,25 @@ describe('ProbePage', () => {
     expect(drawButtons().every((b) => !b.disabled)).toBe(true);
   });
 
+  it('shows the request as code before a key is pasted (the snippets read $FERMIWELL_KEY), but sends nothing', async () => {
+    const { fixture, page, el, backend } = await setup();
+    expect(page.form.controls.apiKey.value).toBe('');
+    expect(page.request()).toBeNull();
+    expect(page.snippetRequest()).toMatchObject({ body: { density: [1e6, 1e7], temperature: 1e8, composition: { mixture: 'c12-o16' } } });
+    expect(page.snippetRequest()!.url).toMatch(/\/v1\/eos\/evaluate$/);
+    await fixture.whenStable();
+    expect(el.querySelector('fw-snippets')!.textContent).toContain('FERMIWELL_KEY');
+    expect(el.querySelector('fw-snippets')!.textContent).not.toContain('Complete the form');
+
+    // an invalid request still has no snippet
+    page.form.controls.density.setValue('1e6, nope');
+    await fixture.whenStable();
+    expect(page.snippetRequest()).toBeNull();
+    expect(el.querySelector('fw-snippets')!.textContent).toContain('Complete the form');
+    await page.send();
+    backend.expectNone('/v1/eos/evaluate');
+  });
+
   it('shows the model caution and validates the forward form inline', async () => {
     const { fixture, page, el } = await setup();
     expect(el.textContent).toContain('fully ionized');

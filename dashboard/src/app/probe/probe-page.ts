@@ -172,8 +172,9 @@ export class ProbePage {
     return v.mode === 'forward' ? !listsMatch(v.density, v.temperature) : !listsMatch(v.first, v.second);
   });
   readonly request = computed(() => (this.valid() && !this.listsMismatch() ? buildRequest(this.value()) : null));
+  /** The snippets read the key from $FERMIWELL_KEY, so they follow the request alone: no pasted key needed. */
   readonly snippetRequest = computed(() => {
-    const request = this.request();
+    const request = this.formState().requestValid && !this.listsMismatch() ? buildRequest(this.value()) : null;
     return request ? { url: `${this.document.location?.origin ?? ''}${eosPath(request.operation)}`, body: request.body } : null;
   });
   readonly composition = computed(() => (this.compositionValid() ? compositionOf(this.value()) : null));
@@ -250,11 +251,13 @@ export class ProbePage {
     inject(DestroyRef).onDestroy(() => subs.forEach((s) => s.unsubscribe()));
   }
 
-  private snapshot(): { value: ProbeFormValue & { apiKey: string }; valid: boolean } {
+  private snapshot(): { value: ProbeFormValue & { apiKey: string }; valid: boolean; requestValid: boolean } {
     const raw = this.form.getRawValue();
     return {
       value: { ...raw, abar: raw.mean.abar, zbar: raw.mean.zbar } as ProbeFormValue & { apiKey: string },
       valid: this.form.valid,
+      // everything but the key (disabled controls, not part of this request, count as fine): what the snippets need
+      requestValid: Object.entries(this.form.controls).every(([name, control]) => name === 'apiKey' || !control.invalid),
     };
   }
 
