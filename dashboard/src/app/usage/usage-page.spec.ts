@@ -1,12 +1,12 @@
 import { TestBed } from '@angular/core/testing';
-import { MATERIAL_ANIMATIONS, provideNativeDateAdapter } from '@angular/material/core';
+import { MATERIAL_ANIMATIONS } from '@angular/material/core';
 import { provideRouter } from '@angular/router';
 import { provideEchartsCore } from 'ngx-echarts';
 
 import { AuthSession } from '../core/auth-session';
 import { fakeSession } from '../shared/testing';
 import { UsageApi, type UsagePageData, type UsageRange } from './usage-api';
-import { UsagePage, lastDays, pickedDay, pickerDate } from './usage-page';
+import { USAGE_DATE_PROVIDERS, UsagePage, lastDays, pickedDay, pickerDate } from './usage-page';
 import type { GroupBy } from './usage-series';
 
 /** ECharts needs a canvas, which jsdom lacks: a stand-in chart that records its options. */
@@ -70,7 +70,7 @@ describe('UsagePage', { timeout: 30_000 }, () => {
         { provide: UsageApi, useValue: api },
       ],
     });
-    TestBed.overrideComponent(UsagePage, { set: { providers: [provideEchartsCore({ echarts: fakeEcharts }), provideNativeDateAdapter()] } });
+    TestBed.overrideComponent(UsagePage, { set: { providers: [provideEchartsCore({ echarts: fakeEcharts }), USAGE_DATE_PROVIDERS] } });
   });
 
   async function render() {
@@ -101,11 +101,22 @@ describe('UsagePage', { timeout: 30_000 }, () => {
     const tiles = Array.from(page.querySelectorAll('.tile')).map((t) => [t.querySelector('.tile-label')!.textContent!.trim(), t.querySelector('.tile-value')!.textContent!.trim()]);
     expect(tiles).toEqual([['Points', '1,002,000'], ['Requests', '50'], ['Errors', '4 (8%)']]);
     const quota = page.querySelector('.quota')!.textContent!.replace(/\s+/g, ' ');
-    expect(quota).toContain('400,000,000 of 500,000,000 points used (80%) on the group plan; 100,000,000 left');
+    expect(quota).toContain('400,000,000 of 500,000,000 points used (80%) on the Group plan; 100,000,000 left');
     expect(page.querySelector('mat-progress-bar')!.classList).toContain('warn');
     expect(page.querySelectorAll('.usage-table tbody tr').length).toBe(30);
     expect(page.querySelector('.usage-table tbody tr:last-child')!.textContent).toContain(today);
     expect(page.querySelectorAll('[echarts]').length).toBe(3);
+  });
+
+  it('writes the days in the range field as "3 Nov 2026", not as the ambiguous 11/3/2026', async () => {
+    const { page } = await render();
+    const start = page.querySelector('input[aria-label="First day"]') as HTMLInputElement;
+    const end = page.querySelector('input[aria-label="Last day"]') as HTMLInputElement;
+    for (const [input, day] of [[start, lastDays(30).from], [end, today]] as const) {
+      expect(input.value).toMatch(/^\d{1,2} [A-Z][a-z]{2,3} \d{4}$/);
+      expect(input.value).not.toContain('/');
+      expect(pickedDay(new Date(Date.parse(input.value)))).toBe(day);
+    }
   });
 
   it('names keys in the legend and switches to per endpoint', async () => {

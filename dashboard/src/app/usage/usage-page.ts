@@ -1,9 +1,9 @@
-import { DatePipe, DecimalPipe, PercentPipe } from '@angular/common';
+import { DatePipe, DecimalPipe, PercentPipe, TitleCasePipe } from '@angular/common';
 import { ChangeDetectionStrategy, Component, PendingTasks, computed, effect, inject, signal, untracked } from '@angular/core';
 import { FormControl, FormGroup, ReactiveFormsModule } from '@angular/forms';
 import { MatButton } from '@angular/material/button';
 import { MatButtonToggle, MatButtonToggleGroup } from '@angular/material/button-toggle';
-import { provideNativeDateAdapter } from '@angular/material/core';
+import { MAT_DATE_LOCALE, MAT_NATIVE_DATE_FORMATS, provideNativeDateAdapter } from '@angular/material/core';
 import { MatDatepickerToggle, MatDateRangeInput, MatDateRangePicker, MatEndDate, MatStartDate } from '@angular/material/datepicker';
 import { MatFormField, MatHint, MatLabel, MatSuffix } from '@angular/material/form-field';
 import { MatIcon } from '@angular/material/icon';
@@ -46,6 +46,18 @@ export function pickerDate(day: string): Date {
   return new Date(Number(day.slice(0, 4)), Number(day.slice(5, 7)) - 1, Number(day.slice(8, 10)));
 }
 
+/**
+ * The range field writes days as the page does ("3 Nov 2026"): the picker's default, 11/3/2026,
+ * reads as 11 March to most of the world. Typed dates in that form are read back.
+ */
+export const USAGE_DATE_PROVIDERS = [
+  provideNativeDateAdapter({
+    ...MAT_NATIVE_DATE_FORMATS,
+    display: { ...MAT_NATIVE_DATE_FORMATS.display, dateInput: { day: 'numeric', month: 'short', year: 'numeric' } },
+  }),
+  { provide: MAT_DATE_LOCALE, useValue: 'en-GB' },
+];
+
 /** Longest range the page asks for (days): the demo keeps 60 days; a year stays readable as bars. */
 export const MAX_RANGE_DAYS = 366;
 
@@ -56,6 +68,7 @@ export const MAX_RANGE_DAYS = 366;
     DatePipe,
     DecimalPipe,
     PercentPipe,
+    TitleCasePipe,
     ReactiveFormsModule,
     MatButton,
     MatButtonToggle,
@@ -74,7 +87,7 @@ export const MAX_RANGE_DAYS = 366;
     MatSuffix,
     NgxEchartsDirective,
   ],
-  providers: [provideLazyCharts(), provideNativeDateAdapter()],
+  providers: [provideLazyCharts(), USAGE_DATE_PROVIDERS],
   templateUrl: './usage-page.html',
   styleUrl: './usage-page.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
