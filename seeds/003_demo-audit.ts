@@ -44,7 +44,8 @@ export async function seed(knex: Knex) {
     entry(ago(...DEMO_KEYS[0].createdAgo), maintainer, 'key.created', { type: 'api_key', id: DEMO_KEYS[0].id }, { name: DEMO_KEYS[0].name, scopes: DEMO_KEYS[0].scopes }),
     entry(joined(developer), developer, 'member.joined', asUser(developer), { role: 'developer' }),
     entry(ago(...DEMO_KEYS[1].createdAgo), developer, 'key.created', { type: 'api_key', id: DEMO_KEYS[1].id }, { name: DEMO_KEYS[1].name, scopes: DEMO_KEYS[1].scopes }),
-    entry(joined(viewer), viewer, 'member.joined', asUser(viewer), { role: 'viewer' }),
+    // joined as a developer, made a viewer later: the log tells how the current role came about
+    entry(joined(viewer), viewer, 'member.joined', asUser(viewer), { role: 'developer' }),
     entry(ago(30, 5), owner, 'member.role-changed', asUser(viewer), { from: 'developer', to: 'viewer' }),
     entry(ago(12, 3), null, 'auth.sign-in-failed', asUser(developer), { reason: 'wrong-password' }, false),
     entry(ago(12, 3), developer, 'auth.sign-in', asUser(developer), {}, false),
@@ -62,7 +63,8 @@ export async function seed(knex: Knex) {
       token_hash: createHash('sha256').update(randomBytes(32).toString('base64url')).digest('hex'),
       invited_by: maintainer.id,
       created_at: ago(3, 6),
-      expires_at: knex.raw("now() + interval '4 days'"),
+      // valid INVITATION_TTL_DAYS (7 by default) from its creation, like one the gateway makes
+      expires_at: ago(3 - 7, 6),
     });
   }
 }
