@@ -118,6 +118,8 @@ test('the Free plan includes one table build a month', async () => {
   const res = await post({ grid: GRID });
   const problem = await expectProblem(res, 429, 'table-build-limit');
   assert.equal(problem['tableBuildsPerMonth'], 1);
+  // the plan by its name, in words that agree with the counts
+  assert.match(String(problem['detail']), /^The Free plan includes 1 table build a month, and 1 was requested this period\. Nothing was queued\./);
 });
 
 test('GraphQL lists the build with its grid and accuracy', async () => {
