@@ -17,6 +17,7 @@ import type { AccuracyReport, AccuracyStats, FreeEnergyTable } from '../../eos/f
 import { readTableAccuracy } from '../../eos-tables/table-file.js';
 import { ProblemError } from '../shared/problem.js';
 import type { ApiKeyContext, PlanLimits } from '../keys/types.js';
+import { planTitle } from '../plans/store.js';
 import type { Meter } from '../usage/meter.js';
 import { findBuiltinMixture, BUILTIN_MIXTURE_NAMES } from './builtin-mixtures.js';
 import {
@@ -284,7 +285,7 @@ export class EosService {
         'batch-too-large',
         413,
         'Batch larger than the plan allows',
-        `This batch has ${n} points; the ${limits.plan} plan accepts at most ${limits.maxBatch} per request. Split it into requests of at most ${limits.maxBatch} points, or move to a larger plan on the Plan & billing page.`,
+        `This batch has ${n.toLocaleString('en-US')} points; the ${planTitle(limits.plan)} plan accepts at most ${limits.maxBatch.toLocaleString('en-US')} per request. Split it into requests of at most ${limits.maxBatch.toLocaleString('en-US')} points, or move to a larger plan on the Plan & billing page.`,
         { points: n, maxBatch: limits.maxBatch },
       );
     }

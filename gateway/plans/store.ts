@@ -13,6 +13,11 @@ export interface PlanRow {
   table_builds_per_month: number | null;
 }
 
+/** A plan's id as its name reads in messages (DESIGN.md §2: Free, Group, Facility). */
+export function planTitle(id: string): string {
+  return id.charAt(0).toUpperCase() + id.slice(1);
+}
+
 export function toLimits(row: PlanRow): PlanLimits {
   return {
     plan: row.id,

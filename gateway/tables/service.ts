@@ -25,6 +25,7 @@ import * as store from '../jobs/store.js';
 import { ProblemError } from '../shared/problem.js';
 import { parse } from '../shared/validate.js';
 import { nextPeriod, periodStart } from '../usage/meter.js';
+import { planTitle } from '../plans/store.js';
 import type { FixedMixture } from './mixture-terms.js';
 
 export const MAX_TABLE_NODES = 250_000;
@@ -103,8 +104,8 @@ export class TableBuildService {
             'table-build-limit',
             429,
             'Table builds used up',
-            // the plan by its name (DESIGN.md §2: Free, Group, Facility), counts in words that agree
-            `The ${limits.plan.charAt(0).toUpperCase()}${limits.plan.slice(1)} plan includes ${limits.tableBuildsPerMonth} table build${limits.tableBuildsPerMonth === 1 ? '' : 's'} a month, and ${used} ${used === 1 ? 'was' : 'were'} requested this period. Nothing was queued. Move to a larger plan on the Plan & billing page, or wait for the next period (starts ${new Date(nextPeriod(period)).toISOString()}).`,
+            // the plan by its name, counts in words that agree
+            `The ${planTitle(limits.plan)} plan includes ${limits.tableBuildsPerMonth} table build${limits.tableBuildsPerMonth === 1 ? '' : 's'} a month, and ${used} ${used === 1 ? 'was' : 'were'} requested this period. Nothing was queued. Move to a larger plan on the Plan & billing page, or wait for the next period (starts ${new Date(nextPeriod(period)).toISOString()}).`,
             { tableBuildsPerMonth: limits.tableBuildsPerMonth, used },
           );
         }

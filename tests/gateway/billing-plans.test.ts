@@ -173,6 +173,8 @@ describe('subscribe, upgrade, downgrade, cancel', () => {
     const before = await evaluateBatch(gateway.url, token, over);
     assert.equal(before.status, 413, JSON.stringify(before));
     assert.equal(before.type, '/problems/batch-too-large');
+    // the plan by its name and the numbers grouped as the dashboard writes them
+    assert.match(before.detail ?? '', /^This batch has 10,001 points; the Free plan accepts at most 10,000 per request\./);
     const beforeOther = await evaluateBatch(second.url, token, over);
     assert.equal(beforeOther.status, 413); // the other instance has the key cached with the Free plan now
 
