@@ -83,7 +83,9 @@ async function seedBatch(knex: Knex, eos: EosService, organisationId: string, cr
   const warningFlags = Buffer.from(answer.warningFlags);
   const results = assemble(request, [{ points: n, input, result, status, warning_flags: warningFlags }]);
   await knex.transaction(async (trx) => {
-    const ago = (minutes: number) => trx.raw(`now() - (? * interval '1 minute')`, [minutes]);
+    const ago = (seconds: number) => trx.raw(`now() - (? * interval '1 second')`, [seconds]);
+    // three days ago: queued, picked up 2 s later, done after the time the evaluation took (at least 1 s)
+    const created = 3 * 86_400 + 300, started = created - 2, finished = started - Math.max(1, Math.ceil(answer.meta.computeMs / 1000));
     const job = await store.insertJob(trx, {
       organisation_id: organisationId,
       kind: 'batch',
@@ -98,11 +100,11 @@ async function seedBatch(knex: Knex, eos: EosService, organisationId: string, cr
       points_done: n,
       progress: 1,
       result: { statusCounts: statusCounts(results.status), computed: statusCounts(results.status)['0'] ?? 0, ...warningSummary(results) } as never,
-      created_at: ago(3 * 24 * 60 + 5) as never,
-      started_at: ago(3 * 24 * 60 + 4) as never,
-      finished_at: ago(3 * 24 * 60 + 3) as never,
+      created_at: ago(created) as never,
+      started_at: ago(started) as never,
+      finished_at: ago(finished) as never,
     });
-    await trx('job_chunks').insert({ job_id: job.id, chunk_index: 0, first_point: 0, points: n, queue_job_id: job.id, input, result, status, warning_flags: warningFlags, attempts: 1, worker: 'demo-seed', compute_ms: answer.meta.computeMs, finished_at: ago(3 * 24 * 60 + 3) });
+    await trx('job_chunks').insert({ job_id: job.id, chunk_index: 0, first_point: 0, points: n, queue_job_id: job.id, input, result, status, warning_flags: warningFlags, attempts: 1, worker: 'demo-seed', compute_ms: answer.meta.computeMs, finished_at: ago(finished) });
     await store.insertFile(trx, { organisationId, jobId: job.id, role: 'upload', fileName: BATCH_NAME, contentType: 'text/csv', content: upload });
     await store.insertFile(trx, { organisationId, jobId: job.id, role: 'result-csv', fileName: 'helium-shell-track-results.csv', contentType: 'text/csv', content: resultsCsv(results) });
     await store.insertFile(trx, { organisationId, jobId: job.id, role: 'result-hdf5', fileName: 'helium-shell-track-results.h5', contentType: 'application/x-hdf5', content: await resultsHdf5(results, request, job.id) });
@@ -118,7 +120,9 @@ async function seedTable(knex: Knex, eos: EosService, organisationId: string, cr
   });
   const { nD, nT } = gridSize(TABLE_GRID);
   await knex.transaction(async (trx) => {
-    const ago = (minutes: number) => trx.raw(`now() - (? * interval '1 minute')`, [minutes]);
+    const ago = (seconds: number) => trx.raw(`now() - (? * interval '1 second')`, [seconds]);
+    // two days ago: queued, picked up 2 s later, done after the build's own time
+    const created = 2 * 86_400 + 1800, started = created - 2, finished = started - Math.max(1, Math.ceil(table.build.seconds));
     const job = await store.insertJob(trx, {
       organisation_id: organisationId,
       kind: 'table',
@@ -128,9 +132,9 @@ async function seedTable(knex: Knex, eos: EosService, organisationId: string, cr
       request: { grid: TABLE_GRID, mixture, queueJobId: null },
       points: nD * nT,
       progress: 1,
-      created_at: ago(2 * 24 * 60 + 30) as never,
-      started_at: ago(2 * 24 * 60 + 29) as never,
-      finished_at: ago(2 * 24 * 60 + 28) as never,
+      created_at: ago(created) as never,
+      started_at: ago(started) as never,
+      finished_at: ago(finished) as never,
     });
     const file = await store.insertFile(trx, { organisationId, jobId: job.id, role: 'table-hdf5', fileName: 'he-shell-detonation-grid.h5', contentType: 'application/x-hdf5', content: bytes });
     await trx('jobs')

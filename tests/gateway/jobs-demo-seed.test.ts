@@ -31,6 +31,9 @@ test('the seeded batch job\'s results equal evaluate of its own upload', async (
   const job = body.items.find((j: any) => j.name === 'helium-shell-track.csv');
   assert.ok(job, 'the demo batch job');
   assert.equal(job.state, 'completed');
+  // its times are those of a real run of 16 states (seconds, not a minute per step)
+  const took = Date.parse(job.finishedAt) - Date.parse(job.startedAt);
+  assert.ok(took >= 1000 && took <= 5000, `the demo batch ran ${took} ms`);
   const upload = await download(`${gateway.url}${job.files.upload.url}`, token);
   assertChecksum(upload.bytes, upload.headers, job.files.upload.sha256);
   const states = parseCsv(upload.bytes.toString('utf8').split('\n').filter((l) => !l.startsWith('#')).join('\n'));
