@@ -88,6 +88,24 @@ describe('TeamPage', () => {
     expect(page.querySelector('button[aria-label="Remove Lee Student"]')).not.toBeNull();
   });
 
+  it('writes the audit log\'s and the invitations\' times in UTC, as its day filter counts them', async () => {
+    // a browser far from UTC (the specs run in Node, whose local zone follows TZ): local times would read 5 h earlier
+    const env = (globalThis as unknown as { process: { env: Record<string, string | undefined> } }).process.env;
+    const tz = env['TZ'];
+    env['TZ'] = 'America/New_York';
+    try {
+      const { page } = await render(OWNER_ACTIONS);
+      const header = [...page.querySelectorAll('.audit-table th')].map((th) => th.textContent!.trim());
+      expect(header[0]).toBe('When (UTC)');
+      const when = [...page.querySelectorAll('.audit-table td.mat-column-createdAt')].map((td) => td.textContent!.trim());
+      expect(when).toEqual(['7 Jan 2026, 10:00:00', '6 Jan 2026, 10:00:00']);
+      expect(page.textContent).toContain('14 Jan 2026, 10:00');
+    } finally {
+      if (tz === undefined) delete env['TZ'];
+      else env['TZ'] = tz;
+    }
+  });
+
   it('shows a viewer the members only, without controls', async () => {
     const { page } = await render(['organisation.read', 'members.read']);
     expect(page.textContent).toContain('Lee Student');
