@@ -115,7 +115,7 @@ test('journey 4: the owner upgrades Free → Group by test card, sees the invoic
   assert.match(invoiceText, /FW-/);
   assert.match(invoiceText, /49\.00 USD/);
   assert.match(invoiceText, /paid/);
-  assert.match(await page.locator('.period').innerText(), /Current period: .+ – .+/);
+  assert.match(await page.locator('.period').innerText(), /Paid period: .+ – .+ · the points quota resets on the first of every month \(UTC\)/);
   await page.screenshot({ path: artifactPath('journey-4-03-upgraded-invoice.png'), fullPage: true });
 
   // The new limits apply at once: the refused batch is accepted.

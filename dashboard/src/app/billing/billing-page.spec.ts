@@ -121,7 +121,9 @@ describe('BillingPage', () => {
       overview({ plan: PLANS[1]!, subscription: GROUP_SUBSCRIPTION, card: { brand: 'visa', last4: '4242', expMonth: 12, expYear: 2028 } }),
       [invoice()],
     );
-    expect(page.querySelector('.period')?.textContent).toContain('2 Dec 2026 – 2 Jan 2027');
+    expect(page.querySelector('.period')?.textContent).toContain('Paid period: 2 Dec 2026 – 2 Jan 2027');
+    // the quota's own period (calendar months) is named beside the paid one, so the two dates do not read as one
+    expect(page.querySelector('.period')?.textContent?.replace(/\s+/g, ' ')).toContain('the points quota resets on the first of every month (UTC)');
     expect(page.querySelector('.card-on-file')?.textContent).toContain('Visa ending 4242, expires 12/2028');
     const row = page.querySelector('tr[data-invoice="FW-MERGER-0001"]')!.textContent!;
     expect(row).toContain('49.00 USD');
