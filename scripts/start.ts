@@ -80,7 +80,10 @@ async function main() {
   try {
     // the gateway serves the build this script made (FW_DASHBOARD_DIST moves it), unless DASHBOARD_DIR says otherwise
     const dashboardDir = process.env['DASHBOARD_DIR'] ?? dashboardBrowserDir(root);
-    config = loadConfig({ ...process.env, ...services.env, DASHBOARD_DIR: dashboardDir, DATABASE_URL: databaseUrl, JWT_SECRET: devJwtSecret(dataDir), EOS_TABLE_PATH: tablePath });
+    // warnings and errors only unless LOG_LEVEL says otherwise: a JSON line per request would scroll the
+    // addresses and demo sign-ins below out of sight within seconds
+    const logLevel = process.env['LOG_LEVEL'] ?? 'warn';
+    config = loadConfig({ ...process.env, ...services.env, LOG_LEVEL: logLevel, DASHBOARD_DIR: dashboardDir, DATABASE_URL: databaseUrl, JWT_SECRET: devJwtSecret(dataDir), EOS_TABLE_PATH: tablePath });
   } catch (error) {
     if (error instanceof ConfigError) {
       console.error(error.message);
@@ -105,6 +108,7 @@ ${DEMO_USERS.map((u) => `    ${(u.role ?? u.platformRole ?? '').padEnd(11)} ${u.
   Demo API key (${DEMO_KEYS[0].name}; demo database only):
     ${demoToken(DEMO_KEYS[0])}
 
+  Gateway log: ${config.LOG_LEVEL}${process.env['LOG_LEVEL'] ? '' : ' (a line per request: LOG_LEVEL=info npm start)'}
   Press Ctrl-C to stop everything.
 `);
 }

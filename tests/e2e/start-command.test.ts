@@ -100,12 +100,19 @@ test('npm start: serves readiness and the dashboard, stops cleanly, and reuses i
   assert.deepEqual(processesUsing(dataDir), [], 'no process of ours is left');
   await assert.rejects(fetch(`${url}/healthz`));
 
-  // second start: same cluster and data, Ctrl-C's signal
-  const second = startCommand(env);
+  // second start: same cluster and data, Ctrl-C's signal, and no LOG_LEVEL, as a person starts it
+  const personEnv = { ...env };
+  delete personEnv['LOG_LEVEL'];
+  const second = startCommand(personEnv);
   const url2 = await second.ready;
   assert.doesNotMatch(second.output(), /initialising a new cluster/);
   assert.match(second.output(), /0 migration\(s\) applied/);
   assert.equal((await fetch(`${url2}/readyz`)).status, 200);
+  // answered requests do not bury the banner (warnings and errors only), and the banner says how to see them
+  assert.equal((await fetch(`${url2}/`, { headers: { accept: 'text/html' } })).status, 200);
+  await new Promise((r) => setTimeout(r, 300));
+  assert.match(second.output(), /Gateway log: warn \(a line per request: LOG_LEVEL=info npm start\)/);
+  assert.doesNotMatch(second.output(), /"msg":"request completed"/);
   assert.equal(await stop(second.child, 'SIGINT'), 0);
   assert.deepEqual(processesUsing(dataDir), []);
 });
