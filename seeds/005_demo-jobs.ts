@@ -21,8 +21,11 @@ import { addMixtureTerms } from '../gateway/tables/mixture-terms.js';
 
 const BATCH_NAME = 'helium-shell-track.csv';
 const TABLE_NAME = 'He shell detonation grid (demo)';
-/** A small uniform grid around a helium shell detonation: 9 × 6 nodes. */
-const TABLE_GRID: TableGrid = { logDensityYeMin: 5, logDensityYeMax: 7, logTemperatureMin: 8, logTemperatureMax: 9.25, pointsPerDecadeDensity: 4, pointsPerDecadeTemperature: 4, refinedTemperature: null };
+/**
+ * A small grid around a helium shell detonation, 21 × 76 nodes: its T axis gets the pair-onset band
+ * (60 points per decade over 10⁸–10¹⁰ K) as any user's build would.
+ */
+const TABLE_GRID: TableGrid = { logDensityYeMin: 5, logDensityYeMax: 7, logTemperatureMin: 8, logTemperatureMax: 9.25, pointsPerDecadeDensity: 10, pointsPerDecadeTemperature: 20 };
 const UNLIMITED = { plan: 'seed', pointsPerMonth: Infinity, requestsPerSecond: Infinity, maxBatch: Infinity, tableBuildsPerMonth: null };
 
 /** An invented track through a detonating helium shell: density rising, temperature to 5·10⁹ K. */

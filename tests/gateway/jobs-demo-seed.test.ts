@@ -61,6 +61,8 @@ test('the seeded table build is a Fermiwell table with its accuracy report and t
     assert.equal(table.nD * table.nT, build.points);
     assert.ok(table.accuracy && table.accuracy.cellCentres > 0);
     assert.equal(build.result.accuracy.maxRelativeError, Math.max(...['pressure', 'energy', 'entropy'].map((q) => table.accuracy!.quantities[q]!.max)));
+    // built as a user's build would be (the pair-onset band on): it meets the table's accuracy goal (PHYSICS.md §7: P, e, s ≤ 1e-6)
+    assert.ok(build.result.accuracy.maxRelativeError <= 1e-6, `the demo table's largest error ${build.result.accuracy.maxRelativeError}`);
   } finally {
     fs.rmSync(path.dirname(file), { recursive: true, force: true });
   }
