@@ -25,7 +25,7 @@ export type Method = 'exact' | 'table';
 
 /** Output columns with their symbol and CGS unit. */
 export const STATE_FIELDS: Record<string, { label: string; unit: string }> = {
-  pressure: { label: 'Pressure P', unit: 'dyn/cm²' },
+  pressure: { label: 'Pressure P', unit: 'erg/cm³' },
   specificEnergy: { label: 'Specific energy e', unit: 'erg/g' },
   specificEntropy: { label: 'Specific entropy s', unit: 'erg/(g·K)' },
   dPdRho: { label: '∂P/∂ρ at fixed T', unit: 'erg/g' },
@@ -34,8 +34,8 @@ export const STATE_FIELDS: Record<string, { label: string; unit: string }> = {
   dEdT: { label: '∂e/∂T at fixed ρ', unit: 'erg/(g·K)' },
   dSdRho: { label: '∂s/∂ρ at fixed T', unit: 'erg·cm³/(g²·K)' },
   dSdT: { label: '∂s/∂T at fixed ρ', unit: 'erg/(g·K²)' },
-  dPdAbar: { label: '∂P/∂Abar', unit: 'dyn/cm²' },
-  dPdZbar: { label: '∂P/∂Zbar', unit: 'dyn/cm²' },
+  dPdAbar: { label: '∂P/∂Abar', unit: 'erg/cm³' },
+  dPdZbar: { label: '∂P/∂Zbar', unit: 'erg/cm³' },
   dEdAbar: { label: '∂e/∂Abar', unit: 'erg/g' },
   dEdZbar: { label: '∂e/∂Zbar', unit: 'erg/g' },
   cv: { label: 'Specific heat c_v', unit: 'erg/(g·K)' },

@@ -147,7 +147,7 @@ describe('ProbePage', () => {
     call.flush(answer);
     await sent;
     await fixture.whenStable();
-    expect(el.textContent).toContain('2.657×10²² dyn/cm²');
+    expect(el.textContent).toContain('2.657×10²² erg/cm³');
     expect(el.querySelector('.component-row')!.textContent).toContain('electrons');
     expect(el.textContent).toContain('Density outside');
     expect(el.textContent).toContain('Γ = 200 is above the melting value 175');

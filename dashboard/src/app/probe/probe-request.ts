@@ -21,7 +21,7 @@ export type Variable = 'density' | 'temperature' | 'pressure' | 'specificEnergy'
 export const VARIABLES: Record<Variable, { label: string; unit: string; min?: number; max?: number; positive: boolean }> = {
   density: { label: 'Density ρ', unit: 'g/cm³', min: 1e-12, max: 1e15, positive: true },
   temperature: { label: 'Temperature T', unit: 'K', min: 1e3, max: 1e13, positive: true },
-  pressure: { label: 'Pressure P', unit: 'dyn/cm²', positive: true },
+  pressure: { label: 'Pressure P', unit: 'erg/cm³', positive: true },
   specificEnergy: { label: 'Specific energy e', unit: 'erg/g', positive: false },
   specificEntropy: { label: 'Specific entropy s', unit: 'erg/(g·K)', positive: true },
 };

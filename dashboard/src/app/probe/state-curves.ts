@@ -96,7 +96,7 @@ export function curveChartOptions(kind: CurveKind, data: CurveData): EChartsOpti
       axisLabel: { formatter: power },
     },
     yAxis: [
-      { type: 'log', logBase: 10, name: 'Pressure (dyn/cm²)', nameLocation: 'middle', nameGap: 52, axisLabel: { formatter: power } },
+      { type: 'log', logBase: 10, name: 'Pressure (erg/cm³)', nameLocation: 'middle', nameGap: 52, axisLabel: { formatter: power } },
       { type: 'value', name: 'Γ1', min: 1, max: 2, position: 'right', splitLine: { show: false } },
     ],
     series: [

@@ -16,7 +16,7 @@ describe('unit-value', () => {
 
   it('adds the unit', () => {
     const pipe = new UnitValuePipe();
-    expect(pipe.transform(2.656826403316559e22, 'dyn/cm²')).toBe('2.657×10²² dyn/cm²');
+    expect(pipe.transform(2.656826403316559e22, 'erg/cm³')).toBe('2.657×10²² erg/cm³');
     expect(pipe.transform(null, 'K')).toBe('—');
   });
 });

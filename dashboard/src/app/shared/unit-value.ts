@@ -22,7 +22,7 @@ export function formatNumber(value: number | null | undefined, digits = 4): stri
   return `${mantissa}×10${superscript(Number(exponent))}`;
 }
 
-/** Formats a CGS value with its unit: `{{ 2.6568e22 | unitValue: 'dyn/cm²' }}` → 2.657×10²² dyn/cm². */
+/** Formats a CGS value with its unit: `{{ 2.6568e22 | unitValue: 'erg/cm³' }}` → 2.657×10²² erg/cm³. */
 @Pipe({ name: 'unitValue' })
 export class UnitValuePipe implements PipeTransform {
   transform(value: number | null | undefined, unit = '', digits = 4): string {
