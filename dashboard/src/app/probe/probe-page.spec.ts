@@ -148,6 +148,8 @@ describe('ProbePage', () => {
     await sent;
     await fixture.whenStable();
     expect(el.textContent).toContain('2.657×10²² erg/cm³');
+    // the answer says which method computed it
+    expect(el.querySelector('p.meta')!.textContent!.replace(/\s+/g, ' ')).toContain('2 point(s) · exact method ·');
     expect(el.querySelector('.component-row')!.textContent).toContain('electrons');
     expect(el.textContent).toContain('Density outside');
     expect(el.textContent).toContain('Γ = 200 is above the melting value 175');
