@@ -37,6 +37,9 @@ describe('state curves data', () => {
 
     const options = curveChartOptions('isotherm', data) as { xAxis: { type: string }; series: unknown[] };
     expect(options.xAxis.type).toBe('log');
+    // evenly spaced decade labels (a log axis takes its interval in decades)
+    expect((options.xAxis as unknown as { interval: number }).interval).toBe(2);
+    expect((curveChartOptions('isochore', data) as { xAxis: { interval: number } }).xAxis.interval).toBe(1);
     expect(options.series.length).toBe(5);
   });
 });

@@ -93,6 +93,9 @@ export function curveChartOptions(kind: CurveKind, data: CurveData): EChartsOpti
     xAxis: {
       type: 'log', logBase: 10, min: 10 ** SWEEP[kind].min, max: 10 ** SWEEP[kind].max,
       name: kind === 'isotherm' ? 'Density ρ (g/cm³)' : 'Temperature T (K)', nameLocation: 'middle', nameGap: 30,
+      // a label every 2 decades (isotherm: 20 decades) or every decade (isochore: 8), evenly spaced:
+      // left to itself the log axis labelled 10⁻⁸, 10⁰, 10¹⁰, 10¹²
+      interval: kind === 'isotherm' ? 2 : 1,
       axisLabel: { formatter: power },
     },
     yAxis: [
