@@ -10,7 +10,8 @@ import { MAX_LOG_STEP, Mode, NOT_MONOTONE_NO_SOLUTION, PROBE_OK, SEARCH_PROBE, S
 import { IsothermScan, SCAN_EVALUATE, type IsothermSample } from './isotherm-scan.js';
 import { COLUMN, COMPONENT, TABLE_PROBE_CHUNK, type TableProbeBatch } from './table-probe.js';
 import {
-  IsentropeProbe, NEWTON_EVALUATE, NEWTON_FALLBACK, Newton2D, Qty, bounds, isentropeConditionNumber, newPointValues, setBounds, setTableBounds,
+  IsentropeProbe, NEWTON_EVALUATE, NEWTON_FALLBACK, Newton2D, Qty, bounds, densityAt, isentropeConditionNumber, newPointValues, restoreBounds, saveBounds,
+  setTableBounds, temperatureAt,
   type DensityProbe, type PointValues, type TemperatureProbe,
 } from './invert-probes.js';
 import { failureMessage, markSolved, pointInputMessage, pointInputStatus } from './invert-outcomes.js';
@@ -24,13 +25,13 @@ import type { InverseProblem, InvertResult } from './invert.js';
  * (bit for bit evaluate's answer at its (ρ, T)) or its failure.
  */
 export class BatchPoints {
-  /** Per chunk slot: tMin, tMax, ρMin, ρMax (bounds is one module-level object: set it from these per point). */
-  private readonly lo: Float64Array;
+  /** Per chunk slot: the point's bracket (bounds is one module-level object: set it from these per point). */
+  private readonly brackets: Float64Array;
   constructor(
     readonly res: InvertResult, readonly problem: InverseProblem, private readonly keys: readonly [string, string],
     readonly A: Float64Array, readonly B: Float64Array, readonly comp: ResolvedComposition, readonly batch: TableProbeBatch, slots: number,
   ) {
-    this.lo = new Float64Array(4 * slots);
+    this.brackets = new Float64Array(8 * slots);
     batch.bind(res);
   }
 
@@ -45,14 +46,13 @@ export class BatchPoints {
       return false;
     }
     setTableBounds(this.batch.table.grid, comp.ye[i]);
-    const lo = this.lo;
-    lo[4 * j] = bounds.tMin; lo[4 * j + 1] = bounds.tMax; lo[4 * j + 2] = bounds.rhoMin; lo[4 * j + 3] = bounds.rhoMax;
+    saveBounds(this.brackets, j);
     return true;
   }
 
+  /** Slot j's bracket into `bounds` (what the probes, searches and messages read). */
   useBounds(j: number): void {
-    const lo = this.lo;
-    setBounds(lo[4 * j], lo[4 * j + 1], lo[4 * j + 2], lo[4 * j + 3]);
+    restoreBounds(this.brackets, j);
   }
 
   /** Loop point k: point i of the input at (ρ, T). */
@@ -145,8 +145,8 @@ export function solveInBatches(bp: BatchPoints, tProbe: TemperatureProbe, dProbe
         const j = active[k], i = from + j;
         const y = searches[j].y;
         bp.useBounds(j);
-        if (forDensity) bp.fill(k, i, y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y), B[i]);
-        else bp.fill(k, i, A[i], y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y));
+        if (forDensity) bp.fill(k, i, densityAt(y), B[i]);
+        else bp.fill(k, i, A[i], temperatureAt(y));
       }
       batch.run(nActive);
       let kept = 0;
@@ -178,7 +178,7 @@ export function solveInBatches(bp: BatchPoints, tProbe: TemperatureProbe, dProbe
           }
         }
         // no scan (or one that ended without evaluating: a monotone isotherm): this batch's output is the solution's state
-        const result = forDensity && r === STATUS.NOT_MONOTONE ? STATUS.OK : r;
+        const result = forDensity && (r === STATUS.OK || r === STATUS.NOT_MONOTONE) ? scans[j].verdict(r) : r;
         if (result === STATUS.OK || result === STATUS.NOT_MONOTONE) bp.solved(i, k, result, s.iterations, kappa(k));
         else bp.fail(i, j, result, q, s, s.iterations);
       }
@@ -215,11 +215,8 @@ export function solveInBatches(bp: BatchPoints, tProbe: TemperatureProbe, dProbe
       for (let k = 0; k < nDone; k++) {
         const j = scanned[k], i = from + j, s = searches[j], sc = scans[j];
         s.iterations += sc.evaluations;
-        let result = searchStatus[j];
-        if (sc.status > 0) result = sc.status;
-        else {
-          if (!sc.unique) result = STATUS.NOT_MONOTONE;
-          else if (result === STATUS.NOT_MONOTONE && sc.monotone) result = STATUS.OK;
+        let result = sc.verdict(searchStatus[j]);
+        if (sc.status === 0) {
           s.iterations++;
           if (batch.status(k) !== STATUS.OK) result = batch.status(k);
         }
@@ -341,10 +338,7 @@ export function solveIsentropesInBatches(bp: BatchPoints, tProbe: TemperaturePro
         const j = active[k], i = from + j;
         bp.useBounds(j);
         if (stage[j] === Stage.Newton) bp.fill(k, i, Math.exp(newtons[j].xn), Math.exp(newtons[j].yn));
-        else {
-          const y = probes[j].inner.y;
-          bp.fill(k, i, probes[j].rho, y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y));
-        }
+        else bp.fill(k, i, probes[j].rho, temperatureAt(probes[j].inner.y));
       }
       batch.run(nActive);
       let kept = 0;

@@ -36,6 +36,25 @@ export function setTableBounds(g: TableGrid, ye: number): void {
     Math.max(DENSITY_MIN, (10 ** g.logDensityYeMin / ye) * (1 + inside)), Math.min(DENSITY_MAX, (10 ** g.logDensityYeMax / ye) * (1 - inside)),
   );
 }
+/** The temperature a search at ln T = y evaluates: the bracket's own edge values at and beyond its ends. */
+export function temperatureAt(y: number): number {
+  return y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y);
+}
+/** The density a search at ln ρ = y evaluates (as temperatureAt). */
+export function densityAt(y: number): number {
+  return y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y);
+}
+/** The bracket into slot j of a Float64Array (8 values a slot), and back without recomputing its logarithms. */
+export function saveBounds(into: Float64Array, j: number): void {
+  const o = 8 * j;
+  into[o] = bounds.tMin; into[o + 1] = bounds.tMax; into[o + 2] = bounds.rhoMin; into[o + 3] = bounds.rhoMax;
+  into[o + 4] = bounds.lnTMin; into[o + 5] = bounds.lnTMax; into[o + 6] = bounds.lnRhoMin; into[o + 7] = bounds.lnRhoMax;
+}
+export function restoreBounds(from: Float64Array, j: number): void {
+  const o = 8 * j;
+  bounds.tMin = from[o]; bounds.tMax = from[o + 1]; bounds.rhoMin = from[o + 2]; bounds.rhoMax = from[o + 3];
+  bounds.lnTMin = from[o + 4]; bounds.lnTMax = from[o + 5]; bounds.lnRhoMin = from[o + 6]; bounds.lnRhoMax = from[o + 7];
+}
 /** Method "table" without an accuracy report: the edge tolerance is the accuracy goal (PHYSICS.md §7). */
 export const TABLE_EDGE_FLOOR_DEFAULT = 1e-6;
 
@@ -78,7 +97,7 @@ export class TemperatureProbe extends Probe {
   q: Qty = Qty.E;
   constructor(private ctx: PointContext) { super(); }
   at(y: number): number {
-    const T = y >= bounds.lnTMax ? bounds.tMax : y <= bounds.lnTMin ? bounds.tMin : Math.exp(y);
+    const T = temperatureAt(y);
     const st = this.ctx.compute(this.rho, T);
     if (st !== STATUS.OK) return st;
     const t = this.ctx.kernel.total;
@@ -111,7 +130,7 @@ export class DensityProbe extends Probe {
   T = NaN;
   constructor(private ctx: PointContext) { super(); }
   at(y: number): number {
-    const rho = y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y);
+    const rho = densityAt(y);
     const st = this.ctx.compute(rho, this.T);
     if (st !== STATUS.OK) return st;
     const t = this.ctx.kernel.total;
@@ -172,7 +191,7 @@ export class IsentropeProbe extends Probe {
   }
   /** Starts the inner (ρ, s*) → T solve at ln ρ = y; returns SEARCH_PROBE or its final status. */
   begin(y: number): number {
-    const rho = y >= bounds.lnRhoMax ? bounds.rhoMax : y <= bounds.lnRhoMin ? bounds.rhoMin : Math.exp(y);
+    const rho = densityAt(y);
     this.y = y;
     this.rho = rho;
     this.tProbe.rho = rho;

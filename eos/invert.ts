@@ -195,15 +195,12 @@ export function invert(input: InvertInput, options: InvertOptions = {}): InvertR
         const rhoStar = ctx.rho;
         scanIsotherm(scan, ctx, b, a, comp.zmax[i]);
         outer.iterations += scan.evaluations;
-        if (scan.status > 0) st = scan.status;
-        else {
-          if (!scan.unique) st = STATUS.NOT_MONOTONE;
-          else if (st === STATUS.NOT_MONOTONE && scan.monotone) st = STATUS.OK;
-          if (scan.evaluations > 0) {
-            const st2 = ctx.compute(rhoStar, b);
-            outer.iterations++;
-            if (st2 !== STATUS.OK) st = st2;
-          }
+        st = scan.verdict(st);
+        if (scan.status === 0 && scan.evaluations > 0) {
+          // the scan moved the kernel: the solution's state comes from one more evaluation there
+          const st2 = ctx.compute(rhoStar, b);
+          outer.iterations++;
+          if (st2 !== STATUS.OK) st = st2;
         }
       }
       qty = Qty.P;

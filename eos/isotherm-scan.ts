@@ -110,6 +110,18 @@ export class IsothermScan {
     return SCAN_EVALUATE;
   }
 
+  /**
+   * The status of a (P, T) → ρ solution after this scan, from the search's (OK or NOT_MONOTONE): the
+   * scan's failure; NOT_MONOTONE where P* lies in a dip's range; OK where the search saw a decrease
+   * but the isotherm is monotone.
+   */
+  verdict(searchStatus: number): number {
+    if (this.status > 0) return this.status;
+    if (!this.unique) return STATUS.NOT_MONOTONE;
+    if (searchStatus === STATUS.NOT_MONOTONE && this.monotone) return STATUS.OK;
+    return searchStatus;
+  }
+
   /** The density to evaluate at for `x`. */
   density(): number {
     return Math.exp(Math.min(this.x, this.lnRhoMax));
