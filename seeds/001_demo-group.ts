@@ -4,14 +4,13 @@
  */
 import type { Knex } from 'knex';
 import { hash } from '@node-rs/argon2';
-import { DEMO_ORGANISATION, DEMO_USERS } from './demo-accounts.js';
+import { DEMO_ORGANISATION, DEMO_USERS, demoAgo } from './demo-accounts.js';
 
 export async function seed(knex: Knex) {
-  const ago = ([days, hours]: readonly [number, number]) => knex.raw(`now() - (? * interval '1 day') - (? * interval '1 hour')`, [days, hours]);
   const owner = DEMO_USERS.find((u) => u.role === 'owner')!;
   let org = await knex('organisations').where({ slug: DEMO_ORGANISATION.slug }).first();
   if (!org) {
-    [org] = await knex('organisations').insert({ name: DEMO_ORGANISATION.name, slug: DEMO_ORGANISATION.slug, created_at: ago(owner.joinedAgo) }).returning('*');
+    [org] = await knex('organisations').insert({ name: DEMO_ORGANISATION.name, slug: DEMO_ORGANISATION.slug, created_at: demoAgo(knex, owner.joinedAgo) }).returning('*');
   }
   for (const user of DEMO_USERS) {
     let row = await knex('users').whereRaw('lower(email) = lower(?)', [user.email]).first();
@@ -23,13 +22,13 @@ export async function seed(knex: Knex) {
           password_hash: await hash(user.password),
           email_verified_at: knex.fn.now(),
           platform_role: user.platformRole,
-          created_at: ago(user.joinedAgo),
+          created_at: demoAgo(knex, user.joinedAgo),
         })
         .returning('*');
     }
     if (user.role) {
       await knex('memberships')
-        .insert({ user_id: row.id, organisation_id: org.id, role: user.role, created_at: ago(user.joinedAgo) })
+        .insert({ user_id: row.id, organisation_id: org.id, role: user.role, created_at: demoAgo(knex, user.joinedAgo) })
         .onConflict(['user_id', 'organisation_id'])
         .ignore();
     }

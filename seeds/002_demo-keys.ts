@@ -1,7 +1,7 @@
 /** Seeds the demo group's API keys (DESIGN.md §8). Idempotent. */
 import type { Knex } from 'knex';
 import { createHash } from 'node:crypto';
-import { DEMO_KEYS, DEMO_ORGANISATION } from './demo-accounts.js';
+import { DEMO_KEYS, DEMO_ORGANISATION, demoAgo } from './demo-accounts.js';
 
 export async function seed(knex: Knex) {
   const org = await knex('organisations').where({ slug: DEMO_ORGANISATION.slug }).first();
@@ -18,7 +18,7 @@ export async function seed(knex: Knex) {
         scopes: [...key.scopes],
         created_by: creator?.id ?? null,
         // (days, hours) before the seeding, as the audit log's key.created entries (003)
-        created_at: knex.raw(`now() - (? * interval '1 day') - (? * interval '1 hour')`, [...key.createdAgo]),
+        created_at: demoAgo(knex, key.createdAgo),
       })
       .onConflict('id')
       .ignore();

@@ -4,7 +4,7 @@
  */
 import type { Knex } from 'knex';
 import { createHash, randomBytes } from 'node:crypto';
-import { DEMO_KEYS, DEMO_ORGANISATION, DEMO_USERS } from './demo-accounts.js';
+import { DEMO_KEYS, DEMO_ORGANISATION, DEMO_USERS, demoAgo } from './demo-accounts.js';
 
 /** The invented person invited to the demo group; nobody can accept (the token is thrown away). */
 export const DEMO_INVITATION = { email: 'elowen.hartigan@pellworth.example', role: 'developer' } as const;
@@ -21,7 +21,7 @@ export async function seed(knex: Knex) {
   const viewer = await user('jonah.peverell@harrowgate.example');
   if (!owner || !maintainer || !developer || !viewer) return;
 
-  const ago = (days: number, hours = 0) => knex.raw(`now() - (? * interval '1 day') - (? * interval '1 hour')`, [days, hours]);
+  const ago = (days: number, hours = 0) => demoAgo(knex, [days, hours]);
   const entry = (at: Knex.Raw, actor: { id: string; email: string } | null, action: string, target: { type: string; id: string } | null, details: object, organisation = true) => ({
     organisation_id: organisation ? org.id : null,
     actor_user_id: actor?.id ?? null,

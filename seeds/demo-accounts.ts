@@ -4,6 +4,12 @@
  * reserved example domain (RFC 2606). The passwords are printed by `npm start` and in the README;
  * they are for the local demo only.
  */
+import type { Knex } from 'knex';
+
+/** A demo time, (days, hours) before the seeding, as SQL: every demo seed dates its rows with it so they tell one story. */
+export function demoAgo(knex: Knex, [days, hours]: readonly [number, number]): Knex.Raw {
+  return knex.raw(`now() - (? * interval '1 day') - (? * interval '1 hour')`, [days, hours]);
+}
 export const DEMO_ORGANISATION = {
   name: 'Harrowgate Nuclear Astrophysics Group (Pellworth Institute)',
   slug: 'harrowgate',
