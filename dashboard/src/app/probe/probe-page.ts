@@ -171,10 +171,13 @@ export class ProbePage {
     const v = this.value();
     return v.mode === 'forward' ? !listsMatch(v.density, v.temperature) : !listsMatch(v.first, v.second);
   });
-  readonly request = computed(() => (this.valid() && !this.listsMismatch() ? buildRequest(this.value()) : null));
-  /** The snippets read the key from $FERMIWELL_KEY, so they follow the request alone: no pasted key needed. */
+  /** The request the form describes, key or not (a valid form has a valid request). */
+  private readonly draft = computed(() => (this.formState().requestValid && !this.listsMismatch() ? buildRequest(this.value()) : null));
+  /** What Send posts: the draft once the key is there too. */
+  readonly request = computed(() => (this.valid() ? this.draft() : null));
+  /** The snippets read the key from $FERMIWELL_KEY, so they follow the draft alone: no pasted key needed. */
   readonly snippetRequest = computed(() => {
-    const request = this.formState().requestValid && !this.listsMismatch() ? buildRequest(this.value()) : null;
+    const request = this.draft();
     return request ? { url: `${this.document.location?.origin ?? ''}${eosPath(request.operation)}`, body: request.body } : null;
   });
   readonly composition = computed(() => (this.compositionValid() ? compositionOf(this.value()) : null));
